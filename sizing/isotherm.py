@@ -208,7 +208,7 @@ def theta_of_pressure(pressure, max_surface_excess, temperature, gibbs_prefactor
 def surface_excess_from_area(area_per_molecule):
     """Return Gamma_inf [mol/m**2] from the minimum area per molecule [m**2].
 
-    >>> round(surface_excess_from_area(0.5e-18) * 1e6, 4)
+    >>> round(float(surface_excess_from_area(0.5e-18)) * 1e6, 4)
     3.3211
     """
     return 1.0 / (AVOGADRO * np.asarray(area_per_molecule, dtype=float))

@@ -94,7 +94,7 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
 
     Examples
     --------
-    >>> parse("8.2 mM", "surfactant.cmc", "concentration")
+    >>> round(parse("8.2 mM", "surfactant.cmc", "concentration"), 12)
     8.2
     >>> round(parse("25 degC", "batch.temperature", "temperature"), 10)
     298.15
