@@ -1,0 +1,559 @@
+"""Fit a tension series: the CMC as a fitted breakpoint and an isotherm below it.
+
+The model of the whole series is one equation of state below the CMC and a constant plateau
+above it (pseudo-phase model: the monomer concentration stops at the CMC)::
+
+    gamma(c) = gamma0 - Pi(min(c, cmc))
+    Pi(c)    = pressure_of_theta(theta_of_c(c, K, model, beta), Gamma_inf, T, n, model, beta)
+
+The parameters ``gamma0`` (unless given), ``ln Gamma_inf``, ``ln K``, the Frumkin ``beta`` and
+``log10 cmc`` are fitted together by least squares (``scipy.optimize.least_squares``), the
+breakpoint started from every gap between measured concentrations so that the global minimum
+is found.  Standard errors come from the Jacobian, ``cov = s**2 (J^T J)^-1``, and the 95 %
+intervals use Student's t with ``n - p`` degrees of freedom on the fitted (log) scale, so that
+the intervals of positive parameters stay positive.  A residual bootstrap is available where
+the data are few.
+
+Models are compared by AICc; the rule picks the simplest model (fewest parameters) whose AICc
+is within 2 of the lowest, and among models with as many parameters the lowest AICc.
+
+References
+----------
+1. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+   Springer (2002): AICc and the "within 2 units" rule of thumb.
+2. McClements, D. J., Food Emulsions, 2nd ed. (2005), ch. 5: Gibbs equation and prefactor n.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .constants import GAS_CONSTANT
+from .errors import InputError
+from .isotherm import MODELS, area_from_surface_excess, check_model, pressure_of_theta, theta_of_c
+from .labcsv import read_lab_csv
+
+MIN_BELOW = 4  # points needed below the CMC
+MIN_ABOVE = 2  # points needed on the plateau
+CONFIDENCE = 0.95
+AICC_MARGIN = 2.0  # a more complex model must gain more than this to be chosen
+# number of fitted EOS parameters per model, the clean tension and the CMC excluded
+_EXTRA = {"langmuir": 0, "volmer": 0, "frumkin": 1}
+_BOUNDS = {  # on the fitted scale
+    "clean_tension": (0.0, 200.0),  # mN/m
+    "ln_gamma": (math.log(1e-8), math.log(1e-4)),  # ln(mol/m**2)
+    "ln_k": (math.log(1e-8), math.log(1e14)),  # ln(m**3/mol)
+    "interaction": (-10.0, 2.0),  # Frumkin beta; above 2 a 2-D phase transition
+}
+PARAMS = ("clean_tension", "max_surface_excess", "adsorption_constant", "interaction", "cmc")
+JSON_NAMES = {
+    "clean_tension": "clean_tension_N_m",
+    "max_surface_excess": "max_surface_excess_mol_m2",
+    "adsorption_constant": "adsorption_constant_m3_mol",
+    "interaction": "interaction",
+    "cmc": "cmc_mol_m3",
+}
+
+
+@dataclass(frozen=True)
+class TensionData:
+    """A validated tension series in SI.
+
+    Attributes: ``concentration`` [mol/m**3] (> 0), ``tension`` [N/m], ``temperature`` [K] or
+    None when the file has no temperature column, ``path``, ``labels`` (column headers as
+    written, for messages), ``notes`` (things the reader noticed).
+    """
+
+    path: str
+    concentration: np.ndarray
+    tension: np.ndarray
+    temperature: float | None
+    labels: dict
+    notes: tuple = ()
+
+
+@dataclass(frozen=True)
+class ModelFit:
+    """One equation of state fitted to the whole series (SI values; intervals are 95 %)."""
+
+    model: str
+    params: dict  # name -> value [SI]; interaction 0 unless frumkin
+    standard_errors: dict  # name -> standard error [SI] (nan when not fitted)
+    intervals: dict  # name -> (low, high) [SI]
+    fitted: tuple  # names of the fitted parameters
+    rss: float  # [N**2/m**2]
+    aic: float
+    aicc: float
+    residuals: np.ndarray  # measured - fitted [N/m]
+    x: np.ndarray  # the solution on the fitted scale (internal)
+    at_bound: tuple = ()
+
+
+@dataclass(frozen=True)
+class TensionFit:
+    """The result of :func:`fit_tension`: every model, the chosen one and what was noticed."""
+
+    data: TensionData
+    temperature: float  # [K]
+    gibbs_prefactor: float  # [-]
+    clean_tension_fixed: float | None  # [N/m] when given, else None (fitted)
+    fits: dict  # model -> ModelFit
+    model: str  # the model used
+    selection: str  # why that model
+    n_below: int
+    n_above: int
+    bootstrap: dict | None = None  # name -> (low, high) percentile interval [SI]
+    notes: tuple = ()
+    warnings: tuple = ()
+    forced: bool = field(default=False)
+
+    @property
+    def best(self) -> ModelFit:
+        """Return the fit of the model used."""
+        return self.fits[self.model]
+
+    def to_json(self) -> dict:
+        """Return the plain-data summary printed by ``sizing fit tension --json``."""
+        b = self.best
+        out = {JSON_NAMES[k]: b.params[k] for k in PARAMS}
+        out.update(
+            model=self.model,
+            selection=self.selection,
+            confidence=CONFIDENCE,
+            intervals={JSON_NAMES[k]: list(b.intervals[k]) for k in PARAMS},
+            standard_errors={JSON_NAMES[k]: _nan_none(b.standard_errors[k]) for k in PARAMS},
+            area_per_molecule_m2=float(area_from_surface_excess(b.params["max_surface_excess"])),
+            area_per_molecule_interval_m2=sorted(
+                float(area_from_surface_excess(v)) for v in b.intervals["max_surface_excess"]),
+            temperature_K=self.temperature,
+            gibbs_prefactor=self.gibbs_prefactor,
+            clean_tension_fitted=self.clean_tension_fixed is None,
+            n_points=int(len(self.data.concentration)),
+            n_below_cmc=self.n_below,
+            n_above_cmc=self.n_above,
+            residuals_N_m=[float(r) for r in b.residuals],
+            residual_sd_N_m=float(np.sqrt(b.rss / max(len(b.residuals) - len(b.fitted), 1))),
+            models={
+                m: {"aic": f.aic, "aicc": f.aicc, "rss_N2_m2": f.rss,
+                    **{JSON_NAMES[k]: f.params[k] for k in PARAMS}}
+                for m, f in self.fits.items()
+            },
+            bootstrap=(None if self.bootstrap is None else
+                       {JSON_NAMES[k]: list(v) for k, v in self.bootstrap.items()}),
+            source=self.data.path,
+            notes=list(self.notes),
+            warnings=list(self.warnings),
+        )
+        return out
+
+
+def _nan_none(v):
+    return None if v is None or not np.isfinite(v) else float(v)
+
+
+def read_tension_csv(path) -> TensionData:
+    """Read and check a tension series ``concentration [unit], tension [unit]``.
+
+    Optional columns: ``temperature [unit]``, ``replicate``, ``notes``.
+
+    Raises
+    ------
+    InputError
+        A missing unit or column, a non-numeric or empty cell (row and column named), a
+        non-positive concentration, duplicated concentrations without a ``replicate`` column,
+        fewer than six points.
+    """
+    table = read_lab_csv(
+        path,
+        {"concentration": "concentration", "tension": "tension", "temperature": "temperature"},
+        required=("concentration", "tension"),
+    )
+    p = table.path
+    labels = {k: (f"{k} [{u}]" if u else k) for k, u in table.units.items()}
+    c = np.asarray(table.columns["concentration"], dtype=float)
+    g = np.asarray(table.columns["tension"], dtype=float)
+    problems = []
+    for name, arr in (("concentration", c), ("tension", g)):
+        for i in np.flatnonzero(~np.isfinite(arr)):
+            problems.append(f"{p}: row {i + 2}, column {labels[name]!r}: the cell is empty; "
+                            f"expected a number")
+    for i in np.flatnonzero(np.isfinite(c) & (c <= 0)):
+        problems.append(
+            f"{p}: row {i + 2}, column {labels['concentration']!r}: {c[i]:g} mol/m**3 is not "
+            "positive; expected a concentration > 0 (the series is fitted against log "
+            "concentration; give the clean-interface tension with --clean-tension instead)")
+    for i in np.flatnonzero(np.isfinite(g) & (g <= 0)):
+        problems.append(f"{p}: row {i + 2}, column {labels['tension']!r}: {g[i] * 1e3:g} mN/m is "
+                        "not positive; expected a tension > 0")
+    if "replicate" not in table.columns:
+        seen: dict = {}
+        for i, v in enumerate(c):
+            if not np.isfinite(v):
+                continue
+            key = float(f"{v:.12g}")
+            if key in seen:
+                problems.append(
+                    f"{p}: rows {seen[key] + 2} and {i + 2} have the same concentration "
+                    f"({v:g} mol/m**3) and the file has no 'replicate' column; expected distinct "
+                    "concentrations, or a 'replicate' column numbering repeated measurements")
+            else:
+                seen[key] = i
+    if problems:
+        raise InputError(problems=problems)
+    if len(c) < MIN_BELOW + MIN_ABOVE:
+        raise InputError(f"{p}: {len(c)} data rows; expected at least {MIN_BELOW + MIN_ABOVE} "
+                         f"({MIN_BELOW} below the CMC and {MIN_ABOVE} above it)")
+    notes = []
+    temperature = None
+    if "temperature" in table.columns:
+        t = np.asarray(table.columns["temperature"], dtype=float)
+        t = t[np.isfinite(t)]
+        if t.size:
+            temperature = float(np.mean(t))
+            if np.ptp(t) > 1.0:
+                notes.append(f"warning: the temperature column spans {np.ptp(t):.3g} K; the fit uses "
+                             f"the mean {temperature - 273.15:.4g} degC")
+    order = np.argsort(c, kind="stable")
+    return TensionData(p, c[order], g[order], temperature, labels, tuple(notes))
+
+
+# ---------------------------------------------------------------------------- the model
+def _names(model: str, fixed_gamma0: bool) -> tuple:
+    names = () if fixed_gamma0 else ("clean_tension",)
+    names += ("ln_gamma", "ln_k")
+    if model == "frumkin":
+        names += ("interaction",)
+    return names + ("log10_cmc",)
+
+
+def _unpack(x, names, gamma0_fixed_mn):
+    d = dict(zip(names, x))
+    g0 = d.get("clean_tension", gamma0_fixed_mn)
+    return g0, math.exp(d["ln_gamma"]), math.exp(d["ln_k"]), d.get("interaction", 0.0), d["log10_cmc"]
+
+
+def model_tension(c, model, gamma0, max_surface_excess, adsorption_constant, cmc, temperature,
+                  gibbs_prefactor=1.0, beta=0.0):
+    """Return the tension [N/m] of the segmented model: an isotherm below ``cmc``, flat above.
+
+    Parameters
+    ----------
+    c : concentration [mol/m**3]; model : isotherm name; gamma0 : clean tension [N/m];
+    max_surface_excess : [mol/m**2]; adsorption_constant : [m**3/mol]; cmc : [mol/m**3] (inf
+    for no plateau); temperature : [K]; gibbs_prefactor : n [-]; beta : Frumkin interaction [-].
+
+    Examples
+    --------
+    >>> # REFERENCES.md Langmuir example: 4 umol/m2, K = 100 m3/mol, 25 C, c = 0.01 -> 6.8731 mN/m
+    >>> round(float(72e-3 - model_tension(0.01, "langmuir", 72e-3, 4e-6, 100.0, 1.0, 298.15)) * 1e3, 4)
+    6.8731
+    """
+    c = np.minimum(np.asarray(c, dtype=float), cmc)
+    theta = theta_of_c(c, adsorption_constant, model, beta)
+    return gamma0 - pressure_of_theta(theta, max_surface_excess, temperature, gibbs_prefactor,
+                                      model, beta)
+
+
+def _residuals_fn(c, y_mn, model, names, g0_fixed, temperature, n):
+    def fun(x):
+        g0, ginf, k, beta, lcmc = _unpack(x, names, g0_fixed)
+        pred = model_tension(c, model, g0 * 1e-3, ginf, k, 10.0 ** lcmc, temperature, n, beta)
+        return pred * 1e3 - y_mn
+    return fun
+
+
+def _initial(logc, y_mn, xb, model, names, g0_fixed, temperature, n):
+    below = logc < xb
+    idx = np.flatnonzero(below)[-3:]
+    slope = np.polyfit(logc[idx], y_mn[idx], 1)[0] if len(idx) >= 2 else -5.0
+    scale_t = n * GAS_CONSTANT * temperature
+    gam = min(max(-slope * 1e-3 / (math.log(10.0) * scale_t), 5e-7), 2e-5) / 0.95
+    g0 = g0_fixed if g0_fixed is not None else max(float(np.max(y_mn)) + 0.5, 1.0)
+    plateau = float(np.mean(y_mn[~below]))
+    pi = max(g0 - plateau, 0.05) * 1e-3
+    theta = min(max(-math.expm1(-pi / (scale_t * gam)), 1e-3), 0.999)  # Langmuir inverse
+    if model == "volmer":
+        u = pi / (scale_t * gam)
+        theta = min(u / (1 + u), 0.999)
+        k_c = theta / (1 - theta) * math.exp(theta / (1 - theta))
+    else:
+        k_c = theta / (1 - theta)
+    k = k_c / 10.0 ** xb
+    x0 = {"clean_tension": g0, "ln_gamma": math.log(gam), "ln_k": math.log(k), "interaction": 0.0,
+          "log10_cmc": xb}
+    return np.array([x0[nm] for nm in names])
+
+
+def _bounds(names, logc, y_mn):
+    lo, hi = [], []
+    for nm in names:
+        if nm == "log10_cmc":
+            b = (float(logc[0]), float(logc[-1]))
+        elif nm == "clean_tension":
+            b = (float(np.min(y_mn)), _BOUNDS[nm][1])
+        else:
+            b = _BOUNDS[nm]
+        lo.append(b[0])
+        hi.append(b[1])
+    return np.array(lo), np.array(hi)
+
+
+def _candidates(logc):
+    u = np.unique(logc)
+    if len(u) < MIN_BELOW + MIN_ABOVE:
+        return []
+    mids = 0.5 * (u[:-1] + u[1:])
+    return list(mids[MIN_BELOW - 1: len(u) - MIN_ABOVE])
+
+
+def _solve(fun, x0, lo, hi):
+    from scipy.optimize import least_squares
+
+    x0 = np.clip(x0, lo + 1e-9 * (hi - lo), hi - 1e-9 * (hi - lo))
+    return least_squares(fun, x0, bounds=(lo, hi), x_scale="jac", method="trf",
+                         ftol=1e-12, xtol=1e-12, gtol=1e-12, max_nfev=2000)
+
+
+def _fit_model(data, model, temperature, n, g0_fixed_mn, starts=None):
+    c = data.concentration
+    logc = np.log10(c)
+    y = data.tension * 1e3
+    names = _names(model, g0_fixed_mn is not None)
+    lo, hi = _bounds(names, logc, y)
+    fun = _residuals_fn(c, y, model, names, g0_fixed_mn, temperature, n)
+    best = None
+    for x0 in (starts if starts is not None else
+               [_initial(logc, y, xb, model, names, g0_fixed_mn, temperature, n)
+                for xb in _candidates(logc)]):
+        with np.errstate(all="ignore"):
+            res = _solve(fun, x0, lo, hi)
+        if np.all(np.isfinite(res.fun)) and (best is None or res.cost < best.cost):
+            best = res
+    if best is None:
+        raise InputError(f"{data.path}: the {model} fit did not converge on this series")
+    return best, names, lo, hi, fun
+
+
+def _summarise(data, model, best, names, lo, hi, fun, temperature, n, g0_fixed_mn):
+    from scipy.optimize._numdiff import approx_derivative
+    from scipy.stats import t as student_t
+
+    x = best.x
+    r_mn = best.fun
+    npts, k = len(r_mn), len(x)
+    rss_mn = float(r_mn @ r_mn)
+    dof = max(npts - k, 1)
+    s2 = rss_mn / dof
+    jac = approx_derivative(fun, x, method="3-point", bounds=(lo, hi))
+    try:
+        cov = s2 * np.linalg.pinv(jac.T @ jac)
+        se = np.sqrt(np.clip(np.diag(cov), 0, None))
+    except np.linalg.LinAlgError:  # pragma: no cover
+        se = np.full(k, np.inf)
+    tq = float(student_t.ppf(0.5 + CONFIDENCE / 2, dof))
+    g0, ginf, kk, beta, lcmc = _unpack(x, names, g0_fixed_mn)
+    params = {"clean_tension": float(g0) * 1e-3, "max_surface_excess": float(ginf),
+              "adsorption_constant": float(kk), "interaction": float(beta), "cmc": 10.0 ** float(lcmc)}
+    fixed = {"clean_tension": (g0 * 1e-3, g0 * 1e-3), "interaction": (0.0, 0.0)}
+    ses = {p: float("nan") for p in PARAMS}
+    intervals = dict(fixed)
+    trans = {"clean_tension": ("clean_tension", lambda v: v * 1e-3, lambda v, s: s * 1e-3),
+             "ln_gamma": ("max_surface_excess", math.exp, lambda v, s: math.exp(v) * s),
+             "ln_k": ("adsorption_constant", math.exp, lambda v, s: math.exp(v) * s),
+             "interaction": ("interaction", lambda v: v, lambda v, s: s),
+             "log10_cmc": ("cmc", lambda v: 10.0 ** v, lambda v, s: 10.0 ** v * math.log(10) * s)}
+    at_bound = []
+    for i, nm in enumerate(names):
+        pname, f, dse = trans[nm]
+        ses[pname] = float(dse(x[i], se[i]))
+        lo_v, hi_v = x[i] - tq * se[i], x[i] + tq * se[i]
+        if nm == "interaction":
+            hi_v = min(hi_v, 2.0)
+        with np.errstate(over="ignore"):
+            intervals[pname] = (float(f(min(lo_v, 700.0))), float(f(min(hi_v, 700.0))))
+        if min(x[i] - lo[i], hi[i] - x[i]) < 1e-6 * (hi[i] - lo[i]):
+            at_bound.append(pname)
+    m_par = k + 1  # + the residual variance
+    aic = npts * math.log(rss_mn * 1e-6 / npts) + 2 * m_par
+    aicc = aic + (2 * m_par * (m_par + 1) / (npts - m_par - 1) if npts - m_par - 1 > 0 else math.inf)
+    return ModelFit(model, params, ses, intervals, tuple(names), rss_mn * 1e-6, aic, aicc,
+                    -r_mn * 1e-3, x, tuple(at_bound))
+
+
+def select_model(fits: dict) -> tuple[str, str]:
+    """Return the model the AICc rule picks and a sentence saying why.
+
+    The rule: among the models whose AICc is within 2 of the lowest, take the one with the
+    fewest parameters; among those with as many parameters, the lowest AICc.
+
+    Examples
+    --------
+    >>> class F:  # stand-ins with just what the rule reads
+    ...     def __init__(self, aicc, k): self.aicc, self.fitted = aicc, tuple(range(k))
+    >>> select_model({"langmuir": F(-100.0, 4), "frumkin": F(-101.5, 5)})[0]
+    'langmuir'
+    >>> select_model({"langmuir": F(-100.0, 4), "frumkin": F(-104.0, 5)})[0]
+    'frumkin'
+    """
+    low = min(f.aicc for f in fits.values())
+    near = [m for m, f in fits.items() if f.aicc <= low + AICC_MARGIN]
+    pick = min(near, key=lambda m: (len(fits[m].fitted), fits[m].aicc))
+    others = ", ".join(f"{m} {fits[m].aicc - fits[pick].aicc:+.2f}" for m in fits if m != pick)
+    why = (f"{pick}: the simplest model within {AICC_MARGIN:g} AICc units of the lowest "
+           f"(AICc differences against it: {others or 'none'})")
+    return pick, why
+
+
+def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clean_tension=None,
+                bootstrap=0, seed=0) -> TensionFit:
+    """Fit the CMC and an isotherm to a tension series.
+
+    Parameters
+    ----------
+    data : TensionData or str or Path
+        The series (a path is read with :func:`read_tension_csv`).
+    temperature : float, optional
+        [K]; by default the mean of the file's temperature column, else 298.15 K with a warning.
+    gibbs_prefactor : float
+        n [-] of the Gibbs equation (1 nonionic, 2 a 1:1 ionic without salt).
+    model : str, optional
+        Force one of :data:`sizing.isotherm.MODELS`; by default the AICc rule picks.
+    clean_tension : float, optional
+        gamma0 [N/m] held fixed; fitted when None.
+    bootstrap : int
+        Number of residual-bootstrap refits of the model used (0 = none).
+    seed : int
+        Seed of the bootstrap.
+
+    Returns
+    -------
+    TensionFit
+
+    Raises
+    ------
+    InputError
+        Bad data (see :func:`read_tension_csv`), too few points below (< 4) or above (< 2) the
+        fitted CMC, no plateau in the data, a bad option.
+    """
+    if not isinstance(data, TensionData):
+        data = read_tension_csv(data)
+    notes = [x for x in data.notes if not x.startswith("warning:")]
+    warnings = [x[len("warning: "):] for x in data.notes if x.startswith("warning:")]
+    if temperature is None:
+        if data.temperature is None:
+            temperature = 298.15
+            warnings.append("no temperature given (option or column); assumed 25 degC")
+        else:
+            temperature = data.temperature
+    if not (200.0 < float(temperature) < 500.0):
+        raise InputError(f"--temperature: expected a temperature between about -70 and 220 degC, "
+                         f"got {float(temperature) - 273.15:g} degC")
+    n = float(gibbs_prefactor)
+    if not (0.5 <= n <= 3.0):
+        raise InputError(f"--gibbs-prefactor: expected a number from 1 (nonionic) to 2 (1:1 ionic "
+                         f"without salt), got {gibbs_prefactor!r}")
+    models = MODELS if model is None else (check_model(model, field="--model"),)
+    g0_fixed_mn = None if clean_tension is None else float(clean_tension) * 1e3
+    if g0_fixed_mn is not None and g0_fixed_mn < float(np.max(data.tension)) * 1e3 - 0.5:
+        warnings.append(f"the clean tension given ({g0_fixed_mn:.4g} mN/m) is below the highest "
+                        f"measured tension ({np.max(data.tension) * 1e3:.4g} mN/m)")
+    fits, raw = {}, {}
+    for m in models:
+        res, names, lo, hi, fun = _fit_model(data, m, temperature, n, g0_fixed_mn)
+        fits[m] = _summarise(data, m, res, names, lo, hi, fun, temperature, n, g0_fixed_mn)
+        raw[m] = (names, lo, hi)
+    if model is None:
+        chosen, why = select_model(fits)
+    else:
+        chosen, why = models[0], f"{models[0]}: chosen with --model"
+    best = fits[chosen]
+    cmc = best.params["cmc"]
+    n_below = int(np.sum(data.concentration < cmc))
+    n_above = int(len(data.concentration) - n_below)
+    if n_below < MIN_BELOW:
+        raise InputError(f"{data.path}: {n_below} points below the fitted CMC ({cmc * 1e3:.4g} uM); "
+                         f"expected at least {MIN_BELOW}: measure more dilute solutions")
+    if n_above < MIN_ABOVE or "cmc" in best.at_bound:
+        raise InputError(
+            f"{data.path}: {n_above} point(s) above the fitted CMC ({cmc:.4g} mol/m**3); expected at "
+            f"least {MIN_ABOVE} on the plateau: the tension is still falling at the highest "
+            "concentration, so measure above the CMC")
+    _no_plateau_check(data, best, temperature, n, g0_fixed_mn)
+    for m, f in fits.items():
+        bad = [b for b in f.at_bound if b != "cmc"]
+        if bad and m == chosen:
+            warnings.append(f"{m}: {', '.join(bad)} at the edge of its allowed range; its interval "
+                            "is not reliable")
+    if g0_fixed_mn is None and data.concentration[0] * best.params["adsorption_constant"] > 1.0:
+        notes.append("the most dilute point is already well into adsorption (K c > 1); the clean "
+                     "tension is an extrapolation: consider fixing it with --clean-tension")
+    notes.append(f"{n_below} points below the CMC and {n_above} above; the CMC is a fitted "
+                 "breakpoint of tension against log concentration")
+    boot = None
+    if bootstrap:
+        names, lo, hi = raw[chosen]
+        boot = _bootstrap(data, best, names, lo, hi, temperature, n, g0_fixed_mn, int(bootstrap), seed)
+    return TensionFit(data, float(temperature), n, None if clean_tension is None else float(clean_tension),
+                      fits, chosen, why, n_below, n_above, boot, tuple(notes), tuple(warnings),
+                      model is not None)
+
+
+def _no_plateau_check(data, best, temperature, n, g0_fixed_mn):
+    """Refuse a series whose 'plateau' is no better than the isotherm running on (AICc)."""
+    c, y = data.concentration, data.tension * 1e3
+    names = _names(best.model, g0_fixed_mn is not None)[:-1]
+    lo, hi = _bounds(names + ("log10_cmc",), np.log10(c), y)
+
+    def fun(x):
+        g0, ginf, k, beta, _ = _unpack(np.append(x, 0.0), names + ("log10_cmc",), g0_fixed_mn)
+        return model_tension(c, best.model, g0 * 1e-3, ginf, k, np.inf, temperature, n, beta) * 1e3 - y
+
+    with np.errstate(all="ignore"):
+        res = _solve(fun, best.x[:-1], lo[:-1], hi[:-1])
+    npts, m_par = len(c), len(names) + 1
+    rss = max(float(res.fun @ res.fun), 1e-300)
+    aic = npts * math.log(rss * 1e-6 / npts) + 2 * m_par
+    aicc = aic + 2 * m_par * (m_par + 1) / max(npts - m_par - 1, 1)
+    if aicc <= best.aicc:
+        raise InputError(
+            f"{data.path}: no CMC in the data: an isotherm without a plateau fits as well as one "
+            f"with a break; expected at least {MIN_ABOVE} points on the plateau above the CMC")
+
+
+def _bootstrap(data, best, names, lo, hi, temperature, n, g0_fixed_mn, count, seed):
+    """Return 95 % percentile intervals from a residual bootstrap of the model used."""
+    rng = np.random.default_rng(seed)
+    c = data.concentration
+    fitted = data.tension - best.residuals
+    r = best.residuals * math.sqrt(len(c) / max(len(c) - len(names), 1))  # leverage-free inflation
+    samples = fitted[None, :] + rng.choice(r, size=(count, len(c)), replace=True)
+    out = {p: [] for p in PARAMS}
+    for y in samples:  # each resample is its own nonlinear fit
+        fun = _residuals_fn(c, y * 1e3, best.model, names, g0_fixed_mn, temperature, n)
+        with np.errstate(all="ignore"):
+            res = _solve(fun, best.x, lo, hi)
+        g0, ginf, k, beta, lcmc = _unpack(res.x, names, g0_fixed_mn)
+        for p, v in zip(PARAMS, (g0 * 1e-3, ginf, k, beta, 10.0 ** lcmc)):
+            out[p].append(v)
+    a = (1 - CONFIDENCE) / 2 * 100
+    return {p: tuple(float(q) for q in np.percentile(v, [a, 100 - a])) for p, v in out.items()}
+
+
+def fitted_curve(fit: TensionFit, model: str | None = None, points: int = 200):
+    """Return ``(c [mol/m**3], tension [N/m])`` of a fitted model on a log grid for plots."""
+    f = fit.fits[model or fit.model]
+    c = fit.data.concentration
+    grid = np.logspace(math.log10(c[0]) - 0.3, math.log10(c[-1]) + 0.3, points)
+    p = f.params
+    return grid, model_tension(grid, f.model, p["clean_tension"], p["max_surface_excess"],
+                               p["adsorption_constant"], p["cmc"], fit.temperature,
+                               fit.gibbs_prefactor, p["interaction"])
+
+
+def source_name(path) -> str:
+    """Return the file name of a data file (for provenance records)."""
+    return Path(path).name
