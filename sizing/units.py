@@ -152,6 +152,17 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
     return float(q.to(si_unit).magnitude)
 
 
+def parse_value(text, dimension: str, *, allow_bare: bool = False) -> float:
+    """Parse like :func:`parse` but raise ``ValueError`` with a message that has no field name.
+
+    For validators (pydantic adds the field's location itself).
+    """
+    try:
+        return parse(text, "\x00", dimension, allow_bare=allow_bare)
+    except InputError as exc:
+        raise ValueError(str(exc).replace("\x00: ", "")) from None
+
+
 def format_si(value: float, dimension: str, unit: str | None = None, digits: int = 4) -> str:
     """Format an SI float as text with a unit (``unit`` chosen by the caller or the SI one).
 

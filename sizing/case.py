@@ -1,0 +1,555 @@
+"""Case files: the TOML schema (pydantic v2), reading, writing and the flat table of SI values.
+
+A case is validated once, at the boundary: every quantity is a unit string (``"2.4 um"``),
+checked for its dimension and range and converted to SI.  A numeric value may instead carry a
+spread for the Monte Carlo, ``{ value = "2.4 um", rel_sd = 0.15 }`` (log-normal with that
+coefficient of variation) or ``{ value = "2.4 um", low = "2 um", high = "3 um" }`` (uniform).
+
+Every problem is reported at once, one line each, naming the TOML path::
+
+    - drops.d32: Input should be greater than 0 (got '-2.0 um')
+    - surfactant.cmx: unknown key; did you mean 'cmc'?
+
+:meth:`Case.values` flattens the case into ``{"drops.d32": 2.4e-6, ...}`` (SI floats).  The
+orchestrating layer (:mod:`sizing.model`) builds the engine inputs from such a table, so a sweep
+or a Monte Carlo run only replaces some entries by arrays.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Annotated, Any, Literal
+
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, model_validator
+
+from .constants import SHAPE_FACTORS
+from .errors import InputError
+from .units import DIMENSIONS, parse_value
+
+# ---------------------------------------------------------------------------------------------
+# quantities with units and optional spreads
+
+
+@dataclass(frozen=True)
+class Value:
+    """A validated quantity: ``si`` in SI units, ``raw`` as written, an optional spread.
+
+    ``spread`` is None, ``("lognormal", rel_sd)`` or ``("uniform", low_si, high_si)``.
+    """
+
+    si: float
+    raw: Any
+    dimension: str
+    spread: tuple | None = None
+
+    def __float__(self) -> float:
+        return self.si
+
+
+def _check_range(x: float, gt=None, ge=None, lt=None, le=None) -> str | None:
+    if gt is not None and not x > gt:
+        return f"greater than {gt:g}"
+    if ge is not None and not x >= ge:
+        return f"at least {ge:g}"
+    if lt is not None and not x < lt:
+        return f"less than {lt:g}"
+    if le is not None and not x <= le:
+        return f"at most {le:g}"
+    return None
+
+
+def _quantity(dimensions: tuple[str, ...], gt=None, ge=None, lt=None, le=None, si_scale=None):
+    """Build a before-validator for a quantity of one of ``dimensions``."""
+
+    def bounds_text() -> str:
+        parts = []
+        if gt is not None:
+            parts.append(f"> {gt:g}")
+        if ge is not None:
+            parts.append(f">= {ge:g}")
+        if lt is not None:
+            parts.append(f"< {lt:g}")
+        if le is not None:
+            parts.append(f"<= {le:g}")
+        return " and ".join(parts)
+
+    def one(text) -> tuple[float, str]:
+        errors = []
+        for dim in dimensions:
+            try:
+                return parse_value(text, dim), dim
+            except ValueError as exc:
+                errors.append(str(exc))
+        if len(dimensions) > 1:
+            names = " or ".join(d.replace("_", " ") for d in dimensions)
+            examples = " or ".join(DIMENSIONS[d][2] for d in dimensions)
+            raise ValueError(f"expected a {names} such as {examples}, got {text!r}")
+        raise ValueError(errors[0])
+
+    def check(si: float, text, dim) -> None:
+        unit_si = DIMENSIONS[dim][1]
+        problem = _check_range(si, gt, ge, lt, le)
+        if problem:
+            shown = f" ({si:g} {unit_si})" if unit_si and not isinstance(text, (int, float)) else ""
+            raise ValueError(f"expected a value {bounds_text()}{' ' + unit_si if unit_si else ''}, "
+                             f"got {text!r}{shown}")
+
+    def validate(v):
+        if isinstance(v, Value):
+            return v
+        if isinstance(v, dict):
+            keys = set(v)
+            if "value" not in keys:
+                raise ValueError(
+                    f"a table value needs 'value' and either 'rel_sd' or 'low' and 'high', got {v!r}"
+                )
+            unknown = keys - {"value", "rel_sd", "low", "high"}
+            if unknown:
+                raise ValueError(
+                    f"unknown spread key(s) {', '.join(sorted(unknown))}; expected rel_sd, or low and high"
+                )
+            si, dim = one(v["value"])
+            check(si, v["value"], dim)
+            if "rel_sd" in keys:
+                if keys & {"low", "high"}:
+                    raise ValueError("give either rel_sd or low and high, not both")
+                rel = v["rel_sd"]
+                if isinstance(rel, bool) or not isinstance(rel, (int, float)) or not (0 <= rel <= 3):
+                    raise ValueError(f"rel_sd: expected a number from 0 to 3 (a coefficient of variation), got {rel!r}")
+                return Value(si, v, dim, ("lognormal", float(rel)))
+            if not {"low", "high"} <= keys:
+                raise ValueError(f"a uniform spread needs both 'low' and 'high', got {v!r}")
+            lo, dlo = one(v["low"])
+            hi, dhi = one(v["high"])
+            if dlo != dim or dhi != dim:
+                raise ValueError("low, value and high must have the same kind of unit")
+            check(lo, v["low"], dim)
+            check(hi, v["high"], dim)
+            if not lo <= si <= hi or not lo < hi:
+                raise ValueError(f"expected low < high with value between them, got low={v['low']!r}, "
+                                 f"value={v['value']!r}, high={v['high']!r}")
+            return Value(si, v, dim, ("uniform", lo, hi))
+        si, dim = one(v)
+        check(si, v, dim)
+        return Value(si, v, dim)
+
+    return BeforeValidator(validate)
+
+
+def Q(*dimensions: str, **bounds):  # noqa: N802 - reads like a type
+    """Annotated type of a quantity field (``Q("length", gt=0)``)."""
+    return Annotated[Value, _quantity(dimensions, **bounds)]
+
+
+Length = Q("length", gt=0)
+Fraction01 = Q("dimensionless", gt=0, lt=1)
+PositiveNumber = Q("dimensionless", gt=0)
+
+
+def _shape_factor(v):
+    if isinstance(v, str) and v.strip().lower() in SHAPE_FACTORS:
+        return Value(SHAPE_FACTORS[v.strip().lower()], v, "dimensionless")
+    if isinstance(v, str):
+        try:
+            float(v)
+        except ValueError:
+            raise ValueError(
+                f"expected a number >= 1 or one of {', '.join(SHAPE_FACTORS)}, got {v!r}"
+            ) from None
+    return v
+
+
+ShapeFactor = Annotated[Value, BeforeValidator(_shape_factor), _quantity(("dimensionless",), ge=1, le=2)]
+
+
+class Section(BaseModel):
+    model_config = ConfigDict(extra="forbid", arbitrary_types_allowed=True, frozen=True,
+                              populate_by_name=True)
+
+
+# ---------------------------------------------------------------------------------------------
+# sections
+
+
+class CaseInfo(Section):
+    title: str = Field(min_length=1)
+    system: Literal["emulsion", "foam"]
+    continuous: Literal["water", "oil"] = "water"
+    notes: str | None = None
+
+    @model_validator(mode="after")
+    def _foam_water(self):
+        if self.system == "foam" and self.continuous != "water":
+            raise ValueError("a foam's continuous phase is always water; remove case.continuous or set 'water'")
+        return self
+
+
+class Batch(Section):
+    volume: Q("volume", gt=0) | None = None
+    mass: Q("mass", gt=0) | None = None
+    dispersed_fraction: Fraction01
+    temperature: Q("temperature", gt=0) = Field(default_factory=lambda: Value(298.15, "25 degC", "temperature"))
+    continuous_density: Q("density", gt=0) | None = None
+    dispersed_density: Q("density", gt=0) | None = None
+
+    @model_validator(mode="after")
+    def _size(self):
+        if (self.volume is None) == (self.mass is None):
+            raise ValueError("give the batch size as exactly one of volume (e.g. '2 m**3') or mass (e.g. '2000 kg')")
+        if self.mass is not None and (self.continuous_density is None or self.dispersed_density is None):
+            raise ValueError("a batch given by mass needs continuous_density and dispersed_density")
+        return self
+
+
+class Drops(Section):
+    d32: Length | None = None
+    distribution: Literal["lognormal", "rrsb", "table"] | None = None
+    median: Length | None = None
+    gsd: Q("dimensionless", gt=1, lt=10) | None = None
+    basis: Literal["number", "volume"] = "number"
+    characteristic_size: Length | None = None
+    spread: Q("dimensionless", gt=1, lt=20) | None = None
+    file: str | None = None
+    shape_factor: ShapeFactor = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
+
+    @model_validator(mode="after")
+    def _one_description(self):
+        given = "d32" if self.d32 is not None else None
+        if self.distribution is None:
+            if given is None:
+                raise ValueError(
+                    "give exactly one size description: d32 = '2.4 um', or distribution = "
+                    "'lognormal' | 'rrsb' | 'table' with its parameters"
+                )
+            stray = [k for k in ("median", "gsd", "characteristic_size", "spread", "file") if getattr(self, k) is not None]
+            if stray:
+                raise ValueError(f"d32 is given directly; remove {', '.join(stray)} or set distribution")
+            return self
+        if given:
+            raise ValueError(f"give exactly one size description: both d32 and distribution = {self.distribution!r} are given")
+        need = {"lognormal": ("median", "gsd"), "rrsb": ("characteristic_size", "spread"), "table": ("file",)}[self.distribution]
+        missing = [k for k in need if getattr(self, k) is None]
+        if missing:
+            raise ValueError(f"distribution = {self.distribution!r} needs {', '.join(missing)}")
+        other = {"median", "gsd", "characteristic_size", "spread", "file"} - set(need)
+        stray = [k for k in sorted(other) if getattr(self, k) is not None]
+        if stray:
+            raise ValueError(f"distribution = {self.distribution!r} does not use {', '.join(stray)}")
+        return self
+
+
+class Surfactant(Section):
+    name: str = "surfactant"
+    from_: str | None = Field(default=None, alias="from")
+    molar_mass: Q("molar_mass", gt=0)
+    active_fraction: Q("dimensionless", gt=0, le=1) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
+    cmc: Q("concentration", gt=0) | None = None
+    isotherm: str = "langmuir"
+    max_surface_excess: Q("surface_excess", "surface_load", gt=0) | None = None
+    area_per_molecule: Q("area", gt=0) | None = None
+    adsorption_constant: Q("adsorption_constant", gt=0)
+    interaction: Q("dimensionless", ge=-20, le=2) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    gibbs_prefactor: Q("dimensionless", ge=1, le=3) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
+    partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    clean_tension: Q("tension", gt=0) | None = None
+    price_per_kg: Q("dimensionless", ge=0) | None = None
+    currency: str = "EUR"
+    diffusivity: Q("diffusivity", gt=0) | None = None
+
+    @model_validator(mode="after")
+    def _excess(self):
+        from .isotherm import MODELS
+
+        if self.isotherm.strip().lower() not in MODELS:
+            raise ValueError(f"isotherm: unknown isotherm {self.isotherm!r}; expected one of {', '.join(MODELS)}")
+        if (self.max_surface_excess is None) == (self.area_per_molecule is None):
+            raise ValueError(
+                "give exactly one of max_surface_excess (e.g. '3.3 umol/m**2' or '2 mg/m**2') "
+                "or area_per_molecule (e.g. '0.50 nm**2')"
+            )
+        if self.isotherm.strip().lower() != "frumkin" and self.interaction.si != 0:
+            raise ValueError("interaction (Frumkin beta) is only used with isotherm = 'frumkin'")
+        return self
+
+
+class Target(Section):
+    coverage: Fraction01 | None = None
+    tension: Q("tension", gt=0) | None = None
+    free_concentration: Q("concentration", gt=0) | None = None
+    margin: Q("dimensionless", ge=0, le=5) = Field(default_factory=lambda: Value(0.15, 0.15, "dimensionless"))
+
+    @model_validator(mode="after")
+    def _one(self):
+        given = [k for k in ("coverage", "tension", "free_concentration") if getattr(self, k) is not None]
+        if len(given) != 1:
+            raise ValueError(
+                "give exactly one target: coverage (0..1), tension (e.g. '35 mN/m') or "
+                f"free_concentration (e.g. '0.5 mM'); got {', '.join(given) if given else 'none'}"
+            )
+        return self
+
+    @property
+    def kind(self) -> str:
+        return next(k for k in ("coverage", "tension", "free_concentration") if getattr(self, k) is not None)
+
+
+class Recommendation(Section):
+    increment: Q("mass", gt=0) | None = None  # round the charge up to this step
+
+
+class Trial(Section):
+    levels: list[float] = Field(default_factory=lambda: [0.8, 1.0, 1.25], min_length=1, max_length=7)
+    batches_per_level: int = Field(default=1, ge=1, le=100)
+
+    @model_validator(mode="after")
+    def _levels(self):
+        if any((not math.isfinite(x)) or x <= 0 or x > 10 for x in self.levels):
+            raise ValueError(f"levels: expected multiples of the recommended dose between 0 and 10, got {self.levels}")
+        if sorted(set(self.levels)) != list(self.levels):
+            raise ValueError(f"levels: expected distinct values in increasing order, got {self.levels}")
+        return self
+
+
+class Uncertainty(Section):
+    samples: int = Field(default=100_000, ge=100, le=2_000_000)
+    seed: int = Field(default=20261201, ge=0)
+    percentile: float = Field(default=90.0, ge=50.0, le=99.9)
+
+
+class Case(Section):
+    """A whole case file.  ``source`` is the file's folder, for relative paths."""
+
+    case: CaseInfo
+    batch: Batch
+    drops: Drops
+    surfactant: Surfactant
+    target: Target
+    recommendation: Recommendation = Field(default_factory=Recommendation)
+    trial: Trial = Field(default_factory=Trial)
+    uncertainty: Uncertainty | None = None
+
+    # not part of the file: where it was read from, and the fitted block's provenance
+    _base_dir: Path | None = None
+    _provenance: dict | None = None
+    _raw: dict | None = None
+
+    @property
+    def base_dir(self) -> Path | None:
+        return self._base_dir
+
+    @property
+    def provenance(self) -> dict | None:
+        """The ``[provenance]`` table of a fitted block named by ``surfactant.from``."""
+        return self._provenance
+
+    def values(self) -> dict[str, float]:
+        """Return every numeric value as ``{"section.key": SI float}``."""
+        return {path: v.si for path, v in self.quantities().items()}
+
+    def quantities(self) -> dict[str, Value]:
+        """Return every quantity as ``{"section.key": Value}``."""
+        out: dict[str, Value] = {}
+        for section_name in type(self).model_fields:
+            section = getattr(self, section_name)
+            if not isinstance(section, BaseModel):
+                continue
+            for key in type(section).model_fields:
+                v = getattr(section, key)
+                if isinstance(v, Value):
+                    out[f"{section_name}.{key}"] = v
+        return out
+
+    def spreads(self) -> dict[str, Value]:
+        """Return the quantities that carry a spread."""
+        return {p: v for p, v in self.quantities().items() if v.spread is not None}
+
+
+# ---------------------------------------------------------------------------------------------
+# reading and writing
+
+
+def _describe(v: Any) -> str:
+    if isinstance(v, Value):
+        return repr(v.raw)
+    return repr(v)
+
+
+def _suggest(key: str, options) -> str:
+    match = difflib.get_close_matches(key, list(options), n=1, cutoff=0.5)
+    return f"; did you mean {match[0]!r}?" if match else f"; expected one of {', '.join(options)}"
+
+
+def _model_for(loc: tuple) -> type[BaseModel] | None:
+    model: Any = Case
+    for part in loc[:-1]:
+        field = model.model_fields.get(part) if hasattr(model, "model_fields") else None
+        if field is None:
+            return None
+        ann = field.annotation
+        args = getattr(ann, "__args__", None)
+        if args:
+            ann = next((a for a in args if isinstance(a, type) and issubclass(a, BaseModel)), ann)
+        model = ann
+    return model if isinstance(model, type) and issubclass(model, BaseModel) else None
+
+
+def format_errors(exc: ValidationError) -> list[str]:
+    """Turn a pydantic error into one line per problem, naming the TOML path."""
+    lines = []
+    for err in exc.errors(include_url=False):
+        loc = tuple(p for p in err["loc"] if isinstance(p, str) or isinstance(p, int))
+        path = ".".join(str(p) for p in loc) or "case file"
+        kind = err["type"]
+        if kind == "extra_forbidden":
+            model = _model_for(loc)
+            options = []
+            if model is not None:
+                options = [f.alias or name for name, f in model.model_fields.items()]
+            where = "section" if len(loc) == 1 else "key"
+            lines.append(f"{path}: unknown {where}{_suggest(str(loc[-1]), options)}")
+        elif kind == "missing":
+            what = "section" if len(loc) == 1 else "key"
+            lines.append(f"{path}: missing {what}")
+        else:
+            msg = err["msg"]
+            for prefix in ("Value error, ", "Assertion failed, "):
+                if msg.startswith(prefix):
+                    msg = msg[len(prefix):]
+            given = err.get("input")
+            if kind.startswith("value_error") and ("got" in msg or repr(given) in msg):
+                lines.append(f"{path}: {msg}")
+            elif isinstance(given, dict) and len(loc) <= 1:
+                lines.append(f"{path}: {msg}")
+            else:
+                lines.append(f"{path}: {msg} (got {_describe(given)})")
+    return lines
+
+
+def _merge_from(data: dict, base_dir: Path | None) -> dict | None:
+    """Merge a fitted ``[surfactant]`` block named by ``surfactant.from``; return its provenance."""
+    surf = data.get("surfactant")
+    if not isinstance(surf, dict) or "from" not in surf:
+        return None
+    ref = surf["from"]
+    path = Path(str(ref))
+    if not path.is_absolute() and base_dir is not None:
+        path = base_dir / path
+    if not path.exists():
+        raise InputError(f"surfactant.from: file not found {str(ref)!r} (looked for {path})")
+    try:
+        fitted = tomllib.loads(path.read_text(encoding="utf-8"))
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"surfactant.from: {str(ref)!r} is not valid TOML ({exc})") from exc
+    block = fitted.get("surfactant")
+    if not isinstance(block, dict):
+        raise InputError(f"surfactant.from: {str(ref)!r} has no [surfactant] table")
+    merged = dict(block)
+    merged.update(surf)  # the case's own keys win
+    data["surfactant"] = merged
+    prov = dict(fitted.get("provenance", {}))
+    prov["file"] = str(path)
+    prov["keys_from_file"] = sorted(k for k in block if k not in surf)
+    return prov
+
+
+def parse_case(data: dict, base_dir: Path | str | None = None) -> Case:
+    """Validate a case given as a dict (parsed TOML).
+
+    Raises
+    ------
+    InputError
+        With one line per problem.
+    """
+    import copy
+
+    base = Path(base_dir) if base_dir is not None else None
+    raw = copy.deepcopy(data)
+    work = copy.deepcopy(data)
+    provenance = _merge_from(work, base)
+    try:
+        case = Case.model_validate(work)
+    except ValidationError as exc:
+        raise InputError(problems=format_errors(exc)) from None
+    case._base_dir = base
+    case._provenance = provenance
+    case._raw = raw
+    return case
+
+
+def loads_case(text: str, base_dir: Path | str | None = None, name: str = "case file") -> Case:
+    """Validate a case given as TOML text."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{name}: not valid TOML ({exc})") from None
+    return parse_case(data, base_dir)
+
+
+def load_case(path: Path | str) -> Case:
+    """Read and validate a case file.
+
+    Raises
+    ------
+    InputError
+        A missing or unreadable file, bad TOML, or any schema problem (one line each).
+    """
+    p = Path(path)
+    if not p.exists():
+        raise InputError(f"{p}: case file not found")
+    if p.is_dir():
+        raise InputError(f"{p}: is a folder; expected a case file (.toml)")
+    try:
+        text = p.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{p}: cannot read the case file ({exc})") from None
+    return loads_case(text, p.parent, name=str(p))
+
+
+def case_to_dict(case: Case) -> dict:
+    """Return the case as the dict it was written from (user's unit strings kept)."""
+    import copy
+
+    if case._raw is not None:
+        return copy.deepcopy(case._raw)
+    return _dump_model(case)
+
+
+def _dump_model(model: BaseModel) -> dict:
+    out: dict = {}
+    for name, field in type(model).model_fields.items():
+        v = getattr(model, name)
+        key = field.alias or name
+        if v is None:
+            continue
+        if isinstance(v, Value):
+            out[key] = v.raw
+        elif isinstance(v, BaseModel):
+            out[key] = _dump_model(v)
+        else:
+            out[key] = v
+    return out
+
+
+def dumps_case(case: Case | dict) -> str:
+    """Write a case as TOML text (the user's unit strings, no None values)."""
+    import tomli_w
+
+    data = case if isinstance(case, dict) else case_to_dict(case)
+    return tomli_w.dumps(data)
+
+
+def case_with(case: Case, updates: dict[str, Any]) -> Case:
+    """Return a new validated case with some ``"section.key"`` entries replaced (raw values)."""
+    data = case_to_dict(case)
+    for path, value in updates.items():
+        section, _, key = path.partition(".")
+        data.setdefault(section, {})
+        if value is None:
+            data[section].pop(key, None)
+        else:
+            data[section][key] = value
+    return parse_case(data, case.base_dir)

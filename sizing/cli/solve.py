@@ -1,0 +1,75 @@
+"""``sizing solve CASE [--dose Q] [--json]``: the dose for the target, or the state for a dose."""
+
+from __future__ import annotations
+
+from ..units import sig
+from .common import print_json, table
+
+
+def register(sub) -> None:
+    p = sub.add_parser("solve", help="dose for the case's target, or the equilibrium for a given dose",
+                       description="Solve the surfactant mass balance of a case.")
+    p.add_argument("case", help="case file (TOML)")
+    p.add_argument("--dose", metavar="Q", help="active amount per batch, a mass or moles ('12 kg', '40 mol')")
+    p.add_argument("--json", action="store_true", help="print the result as one JSON object")
+    p.set_defaults(func=run)
+
+
+def _fmt(x, unit, digits=4, scale=1.0):
+    return "n/a" if x is None else f"{sig(x * scale, digits)} {unit}".strip()
+
+
+def describe(out: dict) -> str:
+    """Return the readable text of a solve result (the JSON object)."""
+    rows = [
+        ("d32", _fmt(out["d32_m"], "um", scale=1e6)),
+        ("interfacial area", _fmt(out["interfacial_area_m2"], "m**2")),
+        ("continuous phase", f"{out['phases']['continuous']}, {_fmt(out['phases']['continuous_volume_m3'], 'm**3')}"),
+        ("dispersed phase", f"{out['phases']['dispersed']}, {_fmt(out['phases']['dispersed_volume_m3'], 'm**3')}"),
+        ("largest coverage (CMC)", _fmt(out["max_coverage"], "")),
+    ]
+    text = [table(rows, out.get("title") or "case")]
+    if out["dose"] is not None:
+        d = out["dose"]
+        title = "dose for the target" if out["mode"] == "target" else "dose given"
+        drows = [
+            ("active", f"{_fmt(d['kg_active'], 'kg')}  ({_fmt(d['mol'], 'mol')})"),
+            ("product as delivered", _fmt(d["kg_product"], "kg")),
+            ("of batch mass", _fmt(d["wt_percent"], "wt% (product)")),
+            ("per litre of batch", _fmt(d["g_per_l"], "g/L (product)")),
+            ("per interfacial area", _fmt(d["mg_per_m2"], "mg/m**2 (active)")),
+        ]
+        if d.get("percent_on_dispersed") is not None:
+            drows.append(("on dispersed phase", _fmt(d["percent_on_dispersed"], "% by mass (product)")))
+        text.append(table(drows, title))
+    else:
+        text.append("TARGET NOT REACHABLE at equilibrium: " + out.get("unreachable", ""))
+    s = out["state"]
+    srows = [
+        ("free monomer", _fmt(s["free_concentration_mol_m3"], "mM")),
+        ("coverage", _fmt(s["coverage"], "")),
+        ("surface excess", _fmt(s["surface_excess_mol_m2"], "umol/m**2", scale=1e6)),
+    ]
+    if s.get("tension_N_m") is not None:
+        srows.append(("tension", _fmt(s["tension_N_m"], "mN/m", scale=1e3)))
+    text.append(table(srows, "equilibrium state" + (" (at the CMC ceiling)" if s.get("at_cmc_ceiling") else "")))
+    split = out["split_mol"]
+    total = sum(v for v in split.values() if v) or 1.0
+    text.append(table([(k, f"{_fmt(v, 'mol')}  ({100 * (v or 0) / total:.1f} %)") for k, v in split.items()],
+                      "where the surfactant is"))
+    return "\n\n".join(text)
+
+
+def run(args) -> int:
+    from ..case import load_case
+    from ..model import solution_json, solve_case
+
+    case = load_case(args.case)
+    out = solution_json(solve_case(case, dose=args.dose), case)
+    if args.dose is not None:
+        out["dose_given"] = args.dose
+    if args.json:
+        print_json(out)
+    else:
+        print(describe(out))
+    return 0

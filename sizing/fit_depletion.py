@@ -1,0 +1,275 @@
+"""Surface excess from depletion runs: what the dose lost to the interface, row by row.
+
+Each row of the CSV is one experiment: a known dose ``N`` [mol] into a continuous phase of
+volume ``V_c`` with a dispersed phase ``V_d`` giving the interfacial area ``A``; after
+equilibration the continuous phase holds ``c_c`` and, where measured, the dispersed phase ``c_d``.
+The surface excess by difference is::
+
+    Gamma = (N - c_c V_c - c_d V_d) / A
+
+with ``c_d = P c_c`` when it was not measured but a partition coefficient ``P`` is known, and 0
+otherwise (said in the row's notes).  The standard deviation is first-order propagation of the
+optional ``*_sd`` columns (independent errors).
+
+Gamma is a Gibbs relative excess: it is negative for a solute depleted near the interface, as
+inorganic salts are (Weissenborn and Pugh, J. Colloid Interface Sci. 184 (1996) 550).  Negative
+values are kept and explained, never refused.  With at least four rows of positive excess for a
+sample, a Langmuir isotherm ``Gamma = Gamma_inf K c / (1 + K c)`` is fitted to ``(c_c, Gamma)``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .errors import InputError
+from .labcsv import read_lab_csv
+
+MIN_LANGMUIR_ROWS = 4
+CONFIDENCE = 0.95
+
+_DIMS = {
+    "dose": "amount",
+    "continuous_volume": "volume",
+    "dispersed_volume": "volume",
+    "area": "area",
+    "interfacial_area": "area",
+    "continuous_concentration": "concentration",
+    "dispersed_concentration": "concentration",
+    "partition_coefficient": "dimensionless",
+    "temperature": "temperature",
+}
+for _k in list(_DIMS):
+    if _k not in ("partition_coefficient", "temperature", "interfacial_area"):
+        _DIMS[_k + "_sd"] = _DIMS[_k]
+_DIMS["area_sd"] = "area"
+REQUIRED = ("dose", "continuous_volume", "dispersed_volume", "area", "continuous_concentration")
+
+NEGATIVE_NOTE = (
+    "negative surface excess: the solute is depleted near the interface (a Gibbs relative "
+    "excess, as for inorganic salts; Weissenborn and Pugh 1996); kept as measured")
+
+
+def surface_excess_by_difference(dose, continuous_volume, dispersed_volume, area,
+                                 continuous_concentration, dispersed_concentration=0.0, *,
+                                 dose_sd=0.0, continuous_volume_sd=0.0, dispersed_volume_sd=0.0,
+                                 area_sd=0.0, continuous_concentration_sd=0.0,
+                                 dispersed_concentration_sd=0.0, partition_coefficient=None):
+    """Return the surface excess [mol/m**2] by difference and its standard deviation.
+
+    Parameters
+    ----------
+    dose : N [mol]; continuous_volume, dispersed_volume : V_c, V_d [m**3]; area : A [m**2];
+    continuous_concentration : c_c [mol/m**3]; dispersed_concentration : c_d [mol/m**3] (used
+    when ``partition_coefficient`` is None); ``*_sd`` : standard deviations, same units;
+    partition_coefficient : P [-]; where given (not NaN), ``c_d = P c_c`` replaces the
+    dispersed concentration.  All broadcast.
+
+    Returns
+    -------
+    (gamma, sd) : ndarrays [mol/m**2]
+
+    Notes
+    -----
+    ``Gamma = (N - c_c V_c - c_d V_d) / A``;
+    ``var = (sN**2 + (V_c + P V_d)**2 s_cc**2 + c_c**2 s_Vc**2 + c_d**2 s_Vd**2
+    + V_d**2 s_cd**2) / A**2 + Gamma**2 (s_A / A)**2`` (P = 0 and s_cd from the column when
+    c_d is measured).
+
+    Examples
+    --------
+    >>> # 10 umol into 100 mL water + 20 mL oil, 2 m2, 0.02 mM left in water, 0.05 mM in oil
+    >>> g, s = surface_excess_by_difference(10e-6, 100e-6, 20e-6, 2.0, 0.02, 0.05)
+    >>> round(float(g) * 1e6, 9)   # umol/m2: (10 - 2 - 1) / 2
+    3.5
+    """
+    n, vc, vd, a, cc = (np.asarray(v, dtype=float) for v in
+                        (dose, continuous_volume, dispersed_volume, area, continuous_concentration))
+    p = np.asarray(np.nan if partition_coefficient is None else partition_coefficient, dtype=float)
+    use_p = np.isfinite(p)  # NaN: take the dispersed concentration as given
+    p0 = np.where(use_p, p, 0.0)
+    cd = np.where(use_p, p0 * cc, np.asarray(dispersed_concentration, dtype=float))
+    dcc = vc + p0 * vd
+    s_cd = np.where(use_p, 0.0, np.asarray(dispersed_concentration_sd, dtype=float))
+    gamma = (n - cc * vc - cd * vd) / a
+    var = (np.asarray(dose_sd) ** 2 + dcc**2 * np.asarray(continuous_concentration_sd) ** 2
+           + cc**2 * np.asarray(continuous_volume_sd) ** 2 + cd**2 * np.asarray(dispersed_volume_sd) ** 2
+           + vd**2 * s_cd**2) / a**2 + gamma**2 * (np.asarray(area_sd) / a) ** 2
+    return gamma, np.sqrt(var)
+
+
+@dataclass(frozen=True)
+class DepletionFit:
+    """Rows (dicts in SI, row order), Langmuir fits per sample, notes."""
+
+    path: str
+    rows: list
+    langmuir: dict  # sample -> dict of the fit, or a note why there is none
+    notes: tuple
+
+    def to_json(self) -> dict:
+        """Return the plain data printed by ``sizing fit depletion --json``."""
+        return {"rows": self.rows, "langmuir": self.langmuir, "confidence": CONFIDENCE,
+                "source": self.path, "notes": list(self.notes)}
+
+
+def fit_depletion(path, *, partition_coefficient=None) -> DepletionFit:
+    """Compute the surface excess of every depletion run and fit Langmuir where rows allow.
+
+    Parameters
+    ----------
+    path : str or Path
+        CSV with ``dose``, ``continuous_volume``, ``dispersed_volume``, ``area``,
+        ``continuous_concentration`` (units in brackets) and optionally
+        ``dispersed_concentration``, ``partition_coefficient``, ``*_sd``, ``sample``, ``notes``.
+    partition_coefficient : float, optional
+        P [-] used for rows without a measured dispersed concentration (a column wins).
+
+    Raises
+    ------
+    InputError
+        A missing column or unit, a non-numeric or empty required cell, a non-positive area or
+        continuous volume, a negative dose, volume, concentration or standard deviation.
+    """
+    t = read_lab_csv(path, _DIMS, required=())
+    cols = dict(t.columns)
+    if "area" not in cols and "interfacial_area" in cols:
+        cols["area"] = cols.pop("interfacial_area")
+        t.units["area"] = t.units.get("interfacial_area", "")
+    p = t.path
+    missing = [c for c in REQUIRED if c not in cols]
+    if missing:
+        raise InputError(f"{p}: missing column(s) {', '.join(missing)}; expected a header like "
+                         "'dose [umol],continuous_volume [mL],dispersed_volume [mL],area [m**2],"
+                         "continuous_concentration [mM]' (optional: dispersed_concentration, "
+                         "partition_coefficient, *_sd columns, sample, notes)")
+    label = {k: (f"{k} [{t.units.get(k, '')}]" if t.units.get(k) else k) for k in cols}
+    nrow = len(t)
+    problems = []
+    for k in REQUIRED:
+        for i in np.flatnonzero(~np.isfinite(cols[k])):
+            problems.append(f"{p}: row {i + 2}, column {label[k]!r}: the cell is empty; expected a number")
+    for k in ("area", "continuous_volume"):
+        for i in np.flatnonzero(np.isfinite(cols[k]) & (cols[k] <= 0)):
+            problems.append(f"{p}: row {i + 2}, column {label[k]!r}: {cols[k][i]:g} (SI) is not "
+                            "positive; expected a value > 0")
+    for k in [c for c in cols if c in _DIMS and c not in ("area", "continuous_volume", "temperature")]:
+        arr = np.asarray(cols[k], dtype=float)
+        for i in np.flatnonzero(np.isfinite(arr) & (arr < 0)):
+            problems.append(f"{p}: row {i + 2}, column {label[k]!r}: {arr[i]:g} (SI) is negative; "
+                            "expected a value >= 0")
+    if partition_coefficient is not None and not (np.isfinite(partition_coefficient)
+                                                  and partition_coefficient >= 0):
+        problems.append(f"--partition-coefficient: expected a number >= 0, got {partition_coefficient!r}")
+    if problems:
+        raise InputError(problems=problems)
+
+    def col(name, default=0.0):
+        arr = np.asarray(cols.get(name, np.full(nrow, np.nan)), dtype=float)
+        return np.where(np.isfinite(arr), arr, default)
+
+    cd_meas = np.asarray(cols.get("dispersed_concentration", np.full(nrow, np.nan)), dtype=float)
+    p_col = np.asarray(cols.get("partition_coefficient", np.full(nrow, np.nan)), dtype=float)
+    p_opt = np.nan if partition_coefficient is None else float(partition_coefficient)
+    p_use = np.where(np.isfinite(p_col), p_col, p_opt)
+    measured = np.isfinite(cd_meas)
+    from_p = ~measured & np.isfinite(p_use)
+    cc = cols["continuous_concentration"]
+    vd = cols["dispersed_volume"]
+    gamma, sd = surface_excess_by_difference(
+        cols["dose"], cols["continuous_volume"], vd, cols["area"], cc, np.where(measured, cd_meas, 0.0),
+        dose_sd=col("dose_sd"), continuous_volume_sd=col("continuous_volume_sd"),
+        dispersed_volume_sd=col("dispersed_volume_sd"), area_sd=col("area_sd"),
+        continuous_concentration_sd=col("continuous_concentration_sd"),
+        dispersed_concentration_sd=col("dispersed_concentration_sd"),
+        partition_coefficient=np.where(from_p, p_use, np.nan))
+    cd = np.where(measured, cd_meas, np.where(from_p, np.nan_to_num(p_use) * cc, 0.0))
+    has_sd = any(k.endswith("_sd") for k in cols)
+    samples = cols.get("sample", np.array([""] * nrow, dtype=object))
+    notes_col = cols.get("notes", np.array([""] * nrow, dtype=object))
+    file_notes = []
+    rows = []
+    for i in range(nrow):
+        rn = []
+        if measured[i]:
+            basis = "measured"
+        elif from_p[i]:
+            basis = f"partition coefficient {p_use[i]:g} times the continuous concentration"
+        else:
+            basis = "assumed zero"
+            if vd[i] > 0:
+                rn.append("no dispersed-phase concentration measured and no partition coefficient "
+                          "given: the dispersed phase is assumed to hold none")
+        if gamma[i] < 0:
+            rn.append(NEGATIVE_NOTE)
+        if has_sd and sd[i] > 0 and abs(gamma[i]) < 2 * sd[i]:
+            rn.append("within two standard deviations of zero")
+        n_i = cols["dose"][i]
+        rows.append({
+            "row": i + 2,
+            "sample": str(samples[i]),
+            "surface_excess_mol_m2": float(gamma[i]),
+            "surface_excess_sd_mol_m2": float(sd[i]) if has_sd else None,
+            "continuous_concentration_mol_m3": float(cc[i]),
+            "dispersed_concentration_mol_m3": float(cd[i]),
+            "dispersed_basis": basis,
+            "fraction_at_interface": float(gamma[i] * cols["area"][i] / n_i) if n_i > 0 else None,
+            "notes": rn + ([str(notes_col[i])] if str(notes_col[i]) else []),
+        })
+    if np.any(gamma < 0):
+        file_notes.append(f"{int(np.sum(gamma < 0))} row(s) with a negative surface excess are kept "
+                          "(depletion near the interface)")
+    langmuir = {}
+    for s in dict.fromkeys(str(x) for x in samples):
+        idx = np.flatnonzero((np.asarray([str(x) for x in samples]) == s) & (gamma > 0) & (cc > 0))
+        key = s or "all"
+        if len(idx) < MIN_LANGMUIR_ROWS:
+            langmuir[key] = {"note": f"{len(idx)} row(s) with a positive surface excess; a Langmuir "
+                                     f"fit needs at least {MIN_LANGMUIR_ROWS}"}
+            continue
+        langmuir[key] = fit_langmuir_excess(cc[idx], gamma[idx], sd[idx] if has_sd else None)
+    return DepletionFit(p, rows, langmuir, tuple(file_notes))
+
+
+def fit_langmuir_excess(c, gamma, sd=None) -> dict:
+    """Fit ``Gamma = Gamma_inf K c / (1 + K c)`` to (c [mol/m**3], Gamma [mol/m**2]).
+
+    Least squares (``scipy.optimize.curve_fit``) on ``ln Gamma_inf`` and ``ln K``, weighted by
+    ``sd`` when every row has one; 95 % intervals from the covariance with Student's t on the
+    log scale.
+
+    Returns
+    -------
+    dict
+        ``max_surface_excess_mol_m2``, ``adsorption_constant_m3_mol``, ``intervals`` {same
+        keys: [low, high]}, ``n_rows``.
+    """
+    from scipy.optimize import curve_fit
+    from scipy.stats import t as student_t
+
+    c, g = np.asarray(c, dtype=float), np.asarray(gamma, dtype=float)
+    sigma = None
+    if sd is not None and np.all(np.asarray(sd) > 0):
+        sigma = np.asarray(sd, dtype=float)
+
+    def f(x, lg, lk):
+        kc = np.exp(lk) * x
+        return np.exp(lg) * kc / (1 + kc) * 1e6  # umol/m2 for conditioning
+
+    g0 = float(np.max(g)) * 1.2
+    k0 = 1.0 / float(np.median(c))
+    popt, pcov = curve_fit(f, c, g * 1e6, p0=[math.log(g0), math.log(k0)],
+                           sigma=None if sigma is None else sigma * 1e6, absolute_sigma=False,
+                           bounds=([math.log(1e-9), math.log(1e-6)], [math.log(1e-3), math.log(1e12)]),
+                           maxfev=20000)
+    dof = max(len(c) - 2, 1)
+    tq = float(student_t.ppf(0.5 + CONFIDENCE / 2, dof))
+    se = np.sqrt(np.clip(np.diag(pcov), 0, None))
+    with np.errstate(over="ignore"):
+        iv = [(float(np.exp(popt[j] - tq * se[j])), float(np.exp(popt[j] + tq * se[j]))) for j in (0, 1)]
+    return {"max_surface_excess_mol_m2": float(np.exp(popt[0])),
+            "adsorption_constant_m3_mol": float(np.exp(popt[1])),
+            "intervals": {"max_surface_excess_mol_m2": list(iv[0]), "adsorption_constant_m3_mol": list(iv[1])},
+            "n_rows": int(len(c)), "weighted": sigma is not None}

@@ -1,0 +1,429 @@
+"""The orchestrating layer: a validated case -> engine inputs (SI) -> solved balance.
+
+This module adds no physics of its own: it wires :mod:`sizing.distribution`,
+:mod:`sizing.isotherm`, :mod:`sizing.phases` and :mod:`sizing.balance` together.  Every input
+of :class:`Inputs` may be a float or a numpy array; arrays broadcast, so a sweep or a Monte
+Carlo run is one call of :func:`solve`.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from . import balance, distribution, isotherm, phases
+from .errors import InputError
+from .properties import water_surface_tension
+from .units import parse
+
+AIR_DENSITY = 1.2  # kg/m**3, near 20 C and 1 atm (common practice), default for foam bubbles
+
+
+@dataclass(frozen=True)
+class Inputs:
+    """Engine inputs of one case in SI units; numeric fields may be numpy arrays.
+
+    Attributes
+    ----------
+    system : 'emulsion' or 'foam'; continuous : 'water' or 'oil'; model : isotherm name
+    target_kind : 'coverage', 'tension' or 'free_concentration'
+    volume : batch volume [m**3]; dispersed_fraction : phi [-]; temperature : [K]
+    continuous_density, dispersed_density : [kg/m**3] (nan when not given)
+    d32 : [m]; shape_factor : [-]
+    molar_mass : [kg/mol]; active_fraction : [-]; cmc : [mol/m**3] (inf without micelles)
+    max_surface_excess : Gamma_inf [mol/m**2]; adsorption_constant : K [m**3/mol]
+    interaction : Frumkin beta [-]; gibbs_prefactor : n [-]
+    partition_coefficient : P = c_oil/c_water [-]
+    clean_tension : gamma0 [N/m] (nan when unknown)
+    target_value : the target in SI (coverage [-], tension [N/m] or concentration [mol/m**3])
+    margin : [-]; price_per_kg : currency per kg of product (nan when not given)
+    """
+
+    system: str
+    continuous: str
+    model: str
+    target_kind: str
+    volume: object
+    dispersed_fraction: object
+    temperature: object
+    continuous_density: object
+    dispersed_density: object
+    d32: object
+    shape_factor: object
+    molar_mass: object
+    active_fraction: object
+    cmc: object
+    max_surface_excess: object
+    adsorption_constant: object
+    interaction: object
+    gibbs_prefactor: object
+    partition_coefficient: object
+    clean_tension: object
+    target_value: object
+    margin: object
+    price_per_kg: object = math.nan
+    size_stats: distribution.SizeStats | None = field(default=None, compare=False)
+    clean_tension_source: str = "case"
+
+    def with_values(self, **changes) -> "Inputs":
+        """Return a copy with some fields replaced (e.g. ``d32=np.array([...])``)."""
+        return replace(self, **changes)
+
+
+def _get(values: dict, path: str, default=math.nan):
+    v = values.get(path)
+    return default if v is None else v
+
+
+def size_stats(case, values: dict | None = None) -> distribution.SizeStats:
+    """Return the size statistics of the case's drop description (arrays if values are)."""
+    values = case.values() if values is None else values
+    d = case.drops
+    if "drops.d32" in values and (d.distribution is None or d.d32 is not None):
+        return distribution.SizeStats(d32=values["drops.d32"])
+    if d.distribution == "lognormal":
+        return distribution.lognormal_stats(values["drops.median"], values["drops.gsd"], d.basis)
+    if d.distribution == "rrsb":
+        return distribution.rrsb_stats(values["drops.characteristic_size"], values["drops.spread"])
+    if d.distribution == "table":
+        path = distribution.table_path(d.file, case.base_dir)
+        try:
+            return distribution.table_stats(distribution.read_size_table(path))
+        except InputError as exc:
+            raise InputError(problems=[f"drops.file: {line}" for line in exc.problems]) from None
+    return distribution.SizeStats(d32=values["drops.d32"])
+
+
+def inputs_from_values(case, values: dict) -> Inputs:
+    """Build engine :class:`Inputs` from a case and its flat table of SI values.
+
+    ``values`` is :meth:`sizing.case.Case.values` with any entries replaced by arrays (a sweep,
+    a Monte Carlo sample).  ``drops.d32`` in ``values`` overrides a distribution's own d32.
+    """
+    c = case
+    stats = size_stats(c, values)
+    d32 = values["drops.d32"] if "drops.d32" in values else stats.d32
+    rho_c = _get(values, "batch.continuous_density")
+    rho_d = _get(values, "batch.dispersed_density", AIR_DENSITY if c.case.system == "foam" else math.nan)
+    phi = values["batch.dispersed_fraction"]
+    if "batch.volume" in values:
+        volume = values["batch.volume"]
+    else:
+        volume = values["batch.mass"] / ((1 - np.asarray(phi)) * rho_c + np.asarray(phi) * rho_d)
+    molar_mass = values["surfactant.molar_mass"]
+    s = c.surfactant
+    if s.max_surface_excess is not None:
+        gi = values["surfactant.max_surface_excess"]
+        if s.max_surface_excess.dimension == "surface_load":  # given per mass, e.g. mg/m**2
+            gi = np.asarray(gi) / np.asarray(molar_mass)
+    else:
+        gi = isotherm.surface_excess_from_area(values["surfactant.area_per_molecule"])
+    temperature = values["batch.temperature"]
+    gamma0 = _get(values, "surfactant.clean_tension")
+    source = "case"
+    if s.clean_tension is None and c.case.system == "foam":
+        gamma0 = water_surface_tension(temperature)
+        source = "IAPWS R1-76(2014) water at the batch temperature"
+    kind = c.target.kind
+    model = isotherm.check_model(s.isotherm, values["surfactant.interaction"])
+    return Inputs(
+        system=c.case.system, continuous=c.case.continuous, model=model, target_kind=kind,
+        volume=volume, dispersed_fraction=phi, temperature=temperature,
+        continuous_density=rho_c, dispersed_density=rho_d, d32=d32,
+        shape_factor=values["drops.shape_factor"], molar_mass=molar_mass,
+        active_fraction=values["surfactant.active_fraction"],
+        cmc=_get(values, "surfactant.cmc", math.inf), max_surface_excess=gi,
+        adsorption_constant=values["surfactant.adsorption_constant"],
+        interaction=values["surfactant.interaction"], gibbs_prefactor=values["surfactant.gibbs_prefactor"],
+        partition_coefficient=values["surfactant.partition_coefficient"], clean_tension=gamma0,
+        target_value=values[f"target.{kind}"], margin=values["target.margin"],
+        price_per_kg=_get(values, "surfactant.price_per_kg"), size_stats=stats,
+        clean_tension_source=source,
+    )
+
+
+def case_inputs(case, overrides: dict | None = None) -> Inputs:
+    """Return the engine inputs of a case, with optional ``{"section.key": SI value}`` overrides."""
+    values = case.values()
+    unknown = [k for k in (overrides or {}) if k not in values and k not in OVERRIDABLE_EXTRA]
+    if unknown:
+        known = sorted(set(values) | set(OVERRIDABLE_EXTRA))
+        raise InputError(f"{unknown[0]}: not a numeric field of this case; expected one of {', '.join(known)}")
+    values.update(overrides or {})
+    return inputs_from_values(case, values)
+
+
+# fields that may be overridden although the case does not give them
+OVERRIDABLE_EXTRA = ("drops.d32", "target.coverage", "target.tension", "target.free_concentration")
+
+
+@dataclass(frozen=True)
+class Solution:
+    """A solved case; arrays broadcast over the inputs.
+
+    Attributes
+    ----------
+    inputs : the :class:`Inputs`; mode : 'target' or 'dose'
+    feasible : bool array, the target is reachable below the CMC
+    max_coverage : theta at the CMC [-]
+    d32 [m], area [m**2], continuous_volume, dispersed_volume [m**3]
+    state : :class:`sizing.balance.BalanceState` (at the CMC ceiling where infeasible)
+    dose_mol : dose of active [mol] (nan where infeasible)
+    surface_excess [mol/m**2], tension [N/m] (nan when no clean tension is known)
+    """
+
+    inputs: Inputs
+    mode: str
+    feasible: np.ndarray
+    max_coverage: np.ndarray
+    d32: np.ndarray
+    area: np.ndarray
+    continuous_volume: np.ndarray
+    dispersed_volume: np.ndarray
+    state: balance.BalanceState
+    dose_mol: np.ndarray
+    surface_excess: np.ndarray
+    tension: np.ndarray
+
+    # dose in the units an engineer charges --------------------------------------------------
+    @property
+    def kg_active(self):
+        return self.dose_mol * self.inputs.molar_mass
+
+    @property
+    def kg_product(self):
+        return self.kg_active / self.inputs.active_fraction
+
+    @property
+    def batch_mass(self):
+        """Batch mass [kg] (nan without densities)."""
+        i = self.inputs
+        return self.continuous_volume * i.continuous_density + self.dispersed_volume * i.dispersed_density
+
+    @property
+    def wt_percent(self):
+        """Product as charged, per cent of the batch mass [%]."""
+        return 100.0 * self.kg_product / self.batch_mass
+
+    @property
+    def wt_percent_active(self):
+        return 100.0 * self.kg_active / self.batch_mass
+
+    @property
+    def g_per_l(self):
+        """Product per litre of batch [g/L] (= kg/m**3)."""
+        return self.kg_product / self.inputs.volume
+
+    @property
+    def mg_per_m2(self):
+        """Active per interfacial area [mg/m**2]."""
+        return 1e6 * self.kg_active / self.area
+
+    @property
+    def percent_on_dispersed(self):
+        """Product per mass of dispersed phase [%] (nan for a foam or without a density)."""
+        if self.inputs.system == "foam":
+            return np.full(np.shape(self.dose_mol), np.nan)
+        return 100.0 * self.kg_product / (self.dispersed_volume * self.inputs.dispersed_density)
+
+    @property
+    def cost(self):
+        """Product cost per batch [currency] (nan without a price)."""
+        return self.kg_product * self.inputs.price_per_kg
+
+
+def _tension(inputs: Inputs, theta):
+    pressure = isotherm.pressure_of_theta(theta, inputs.max_surface_excess, inputs.temperature,
+                                          inputs.gibbs_prefactor, inputs.model, inputs.interaction)
+    return np.asarray(inputs.clean_tension) - pressure
+
+
+def target_concentration(inputs: Inputs):
+    """Return ``(c, theta)`` for the target [mol/m**3, -] (c may lie above the CMC).
+
+    Raises
+    ------
+    InputError
+        A tension target without a clean tension, or at or above it.
+    """
+    kind, value = inputs.target_kind, np.asarray(inputs.target_value, dtype=float)
+    k, model, beta = inputs.adsorption_constant, inputs.model, inputs.interaction
+    if kind == "coverage":
+        theta = value
+        return isotherm.c_of_theta(theta, k, model, beta), theta
+    if kind == "free_concentration":
+        return value, isotherm.theta_of_c(value, k, model, beta)
+    gamma0 = np.asarray(inputs.clean_tension, dtype=float)
+    if np.any(~np.isfinite(gamma0)):
+        raise InputError(
+            "target.tension: a tension target needs surfactant.clean_tension (the tension of the "
+            "clean interface, e.g. '50 mN/m'); for a foam it defaults to water at the batch temperature"
+        )
+    if np.any(value >= gamma0):
+        raise InputError(
+            f"target.tension: {float(np.max(value)) * 1e3:g} mN/m is not below the clean tension "
+            f"{float(np.min(gamma0)) * 1e3:g} mN/m; expected a tension the surfactant can reach"
+        )
+    theta = isotherm.theta_of_pressure(gamma0 - value, inputs.max_surface_excess, inputs.temperature,
+                                       inputs.gibbs_prefactor, model, beta)
+    return isotherm.c_of_theta(theta, k, model, beta), theta
+
+
+def _common(inputs: Inputs):
+    vc, vd = phases.phase_volumes(inputs.volume, inputs.dispersed_fraction)
+    uptake = phases.dispersed_uptake(inputs.system, inputs.continuous, inputs.partition_coefficient)
+    area = distribution.interfacial_area(inputs.d32, vd, inputs.shape_factor)
+    kw = dict(continuous_volume=vc, dispersed_volume=vd, uptake=uptake,
+              max_surface_excess=inputs.max_surface_excess, area=area,
+              adsorption_constant=inputs.adsorption_constant, model=inputs.model,
+              beta=inputs.interaction)
+    return vc, vd, area, kw
+
+
+def solve(inputs: Inputs, dose_mol=None) -> Solution:
+    """Solve the balance: the dose for the target, or the state for ``dose_mol`` [mol].
+
+    Returns
+    -------
+    Solution
+        Arrays broadcast over every array-valued input (and ``dose_mol``).
+    """
+    vc, vd, area, kw = _common(inputs)
+    cmc = np.asarray(inputs.cmc, dtype=float)
+    theta_max = balance.max_coverage(inputs.adsorption_constant, cmc, inputs.model, inputs.interaction)
+    if dose_mol is None:
+        mode = "target"
+        c, theta = target_concentration(inputs)
+        feasible = np.asarray(c <= cmc * (1 + 1e-12))
+        c_eq = np.where(feasible, c, np.where(np.isfinite(cmc), cmc, c))
+        th_eq = np.where(feasible, theta, theta_max)
+        state = balance.state_at_concentration(c_eq, theta=th_eq, **kw)
+        dose = np.where(feasible, state.total_mol, np.nan)
+    else:
+        mode = "dose"
+        dose = np.asarray(dose_mol, dtype=float)
+        if np.any(dose < 0) or np.any(~np.isfinite(dose)):
+            raise InputError(f"--dose: expected an amount >= 0, got {float(np.min(dose))!r} mol")
+        state = balance.state_for_dose(dose, cmc=cmc, **kw)
+        feasible = np.ones(np.shape(state.coverage), dtype=bool)
+    shape = np.broadcast_shapes(np.shape(state.coverage), np.shape(dose), np.shape(theta_max))
+    gamma = state.coverage * np.asarray(inputs.max_surface_excess)
+    tension = _tension(inputs, state.coverage)
+    return Solution(
+        inputs=inputs, mode=mode, feasible=np.broadcast_to(feasible, shape),
+        max_coverage=np.broadcast_to(theta_max, shape), d32=np.broadcast_to(inputs.d32, shape),
+        area=np.broadcast_to(area, shape), continuous_volume=np.broadcast_to(vc, shape),
+        dispersed_volume=np.broadcast_to(vd, shape), state=state,
+        dose_mol=np.broadcast_to(dose, shape), surface_excess=gamma, tension=tension,
+    )
+
+
+def parse_dose(text, molar_mass: float, field: str = "--dose") -> float:
+    """Return a dose of active [mol] from text: a mass (``"12 kg"``) or an amount (``"40 mol"``)."""
+    try:
+        return parse(text, field, "amount")
+    except InputError:
+        pass
+    try:
+        return parse(text, field, "mass") / molar_mass
+    except InputError:
+        raise InputError(
+            f"{field}: expected the active amount per batch as a mass ('12 kg') or an amount "
+            f"of substance ('40 mol'), got {text!r}"
+        ) from None
+
+
+def solve_case(case, dose: str | float | None = None, overrides: dict | None = None) -> Solution:
+    """Solve a validated case; ``dose`` is text (``"2.5 kg"``) or mol, None for the target."""
+    inputs = case_inputs(case, overrides)
+    dose_mol = None
+    if dose is not None:
+        dose_mol = parse_dose(dose, inputs.molar_mass) if isinstance(dose, str) else float(dose)
+    return solve(inputs, dose_mol)
+
+
+def _num(x):
+    """A JSON number: float, or None for nan/inf."""
+    x = float(np.asarray(x))
+    return x if math.isfinite(x) else None
+
+
+def split_by_phase(sol: Solution) -> dict:
+    """Return ``{water, oil, interface, micelles}`` [mol] of a solved state."""
+    s = sol.state
+    cont, disp = phases.phase_names(sol.inputs.system, sol.inputs.continuous)
+    out = {"water": 0.0, "oil": 0.0}
+    out[cont] = s.continuous_mol
+    if disp in out:
+        out[disp] = s.dispersed_mol
+    out["interface"] = s.interface_mol
+    out["micelles"] = s.micelle_mol
+    return out
+
+
+def solution_json(sol: Solution, case=None) -> dict:
+    """Return the ``sizing solve --json`` object of a scalar solution (the fixed contract)."""
+    i = sol.inputs
+    feasible = bool(np.all(sol.feasible))
+    split = {k: _num(v) for k, v in split_by_phase(sol).items()}
+    dose = None
+    if feasible:
+        dose = {
+            "mol": _num(sol.dose_mol), "kg_active": _num(sol.kg_active), "kg_product": _num(sol.kg_product),
+            "wt_percent": _num(sol.wt_percent), "wt_percent_active": _num(sol.wt_percent_active),
+            "g_per_l": _num(sol.g_per_l), "mg_per_m2": _num(sol.mg_per_m2),
+            "percent_on_dispersed": _num(sol.percent_on_dispersed), "cost": _num(sol.cost),
+        }
+    cont, disp = phases.phase_names(i.system, i.continuous)
+    area = float(sol.area)
+    vd, vc = float(sol.dispersed_volume), float(sol.continuous_volume)
+    stats = i.size_stats.as_dict() if i.size_stats is not None else {"d32": _num(i.d32)}
+    out = {
+        "title": case.case.title if case is not None else None,
+        "mode": sol.mode,
+        "feasible": feasible,
+        "max_coverage": _num(sol.max_coverage),
+        "d32_m": _num(sol.d32),
+        "interfacial_area_m2": area,
+        "dose": dose,
+        "state": {
+            "free_concentration_mol_m3": _num(sol.state.free_concentration),
+            "coverage": _num(sol.state.coverage),
+            "surface_excess_mol_m2": _num(sol.surface_excess),
+            "tension_N_m": _num(sol.tension),
+            "at_cmc_ceiling": (not feasible) or bool(np.all(sol.state.micelle_mol > 0)),
+        },
+        "split_mol": split,
+        "target": {"kind": i.target_kind, "value_si": _num(i.target_value), "margin": _num(i.margin)},
+        "phases": {
+            "continuous": cont, "dispersed": disp,
+            "continuous_volume_m3": vc, "dispersed_volume_m3": vd,
+            "batch_volume_m3": _num(i.volume), "batch_mass_kg": _num(sol.batch_mass),
+        },
+        "area": {
+            "per_batch_m2": area,
+            "per_m3_dispersion_m2_m3": area / _num(i.volume),
+            "per_m3_continuous_m2_m3": area / vc,
+            "per_kg_dispersed_m2_kg": _num(area / (vd * i.dispersed_density)) if i.system != "foam" else None,
+        },
+        "size_m": {k: _num(v) if v is not None else None for k, v in stats.items()},
+        "surfactant": {
+            "model": i.model,
+            "max_surface_excess_mol_m2": _num(i.max_surface_excess),
+            "adsorption_constant_m3_mol": _num(i.adsorption_constant),
+            "cmc_mol_m3": _num(i.cmc),
+            "partition_coefficient": _num(i.partition_coefficient),
+            "clean_tension_N_m": _num(i.clean_tension),
+            "clean_tension_source": i.clean_tension_source if math.isfinite(float(np.asarray(i.clean_tension))) else None,
+            "molar_mass_kg_mol": _num(i.molar_mass),
+            "active_fraction": _num(i.active_fraction),
+        },
+    }
+    if not feasible:
+        out["unreachable"] = (
+            f"the target needs a free concentration above the CMC; at equilibrium the coverage "
+            f"cannot exceed {float(sol.max_coverage):.4g}"
+        )
+    return out
