@@ -1,0 +1,42 @@
+"""``sizing bench [--json]``: vectorised balance throughput against a plain scalar loop."""
+
+from __future__ import annotations
+
+from .common import print_json, table
+
+
+def register(sub) -> None:
+    p = sub.add_parser("bench", help="benchmark the vectorised balance against a per-case loop",
+                       description="Time the vectorised dose -> state solve over random physical cases "
+                                   "against a plain brentq loop on a sample, in the same run.")
+    p.add_argument("--cases", type=int, default=1_000_000, help="vectorised cases per isotherm (default 10^6)")
+    p.add_argument("--loop-cases", type=int, default=2000, help="cases solved by the plain loop (default 2000)")
+    p.add_argument("--seed", type=int, default=7)
+    p.add_argument("--json", action="store_true", help="print one JSON object")
+    p.set_defaults(func=run)
+
+
+def run(args) -> int:
+    from ..bench import MODELS
+    from ..bench import run as bench_run
+    from ..errors import InputError
+
+    if args.cases < 1000 or args.loop_cases < 10 or args.loop_cases > args.cases:
+        raise InputError(f"--cases/--loop-cases: expected cases >= 1000 and 10 <= loop cases <= cases, "
+                         f"got {args.cases} and {args.loop_cases}")
+    out = bench_run(args.cases, args.loop_cases, args.seed)
+    if args.json:
+        print_json(out)
+        return 0
+    rows = []
+    for m in MODELS:
+        rows.append((m, f"{out['cases_per_s'][m]:.3g} cases/s vectorised, {out['loop_cases_per_s'][m]:.3g} "
+                        f"cases/s loop, ratio {out['ratio_vs_loop'][m]:.1f}x (target "
+                        f"{out['targets']['ratio_vs_loop'][m]}x), peak {out['peak_memory_mb'][m]:.0f} MB"))
+    rows.append(("agreement", f"max relative difference {out['max_rel_diff']:.2g} (target 1e-9)"))
+    rows.append(("mass balance", f"max relative error {out['max_mass_balance_error']:.2g}"))
+    if "monte_carlo" in out:
+        mc = out["monte_carlo"]
+        rows.append(("Monte Carlo", ", ".join(f"{k} {v}" for k, v in mc.items())))
+    print(table(rows, f"sizing bench: {out['cases']} cases per isotherm"))
+    return 0
