@@ -1,0 +1,185 @@
+"""``sizing fit tension|depletion|partition``: turn lab data into surfactant parameters."""
+
+from __future__ import annotations
+
+import json
+import sys
+
+
+def register(subparsers) -> None:
+    """Add the ``fit`` verb and its three sub-commands."""
+    p = subparsers.add_parser("fit", help="fit surfactant parameters from lab data (CSV)",
+                              description="Fit surfactant parameters from the engineer's own lab data.")
+    sub = p.add_subparsers(dest="fit_kind", metavar="KIND")
+    p.set_defaults(func=lambda args: (p.print_help(), 1)[1])
+
+    t = sub.add_parser("tension", help="CMC and isotherm from a tension series",
+                       description="Fit the CMC (a fitted breakpoint) and an isotherm to a tension "
+                                   "series: CSV with 'concentration [unit],tension [unit]'.")
+    t.add_argument("data", metavar="DATA.csv")
+    t.add_argument("--temperature", help="e.g. '25 degC' (default: the file's temperature column)")
+    t.add_argument("--gibbs-prefactor", type=float, default=1.0,
+                   help="n of the Gibbs equation: 1 nonionic (default), 2 a 1:1 ionic without salt")
+    t.add_argument("--model", choices=("langmuir", "frumkin", "volmer"),
+                   help="use this isotherm (default: chosen by AICc)")
+    g = t.add_mutually_exclusive_group()
+    g.add_argument("--clean-tension", help="hold the surfactant-free tension fixed, e.g. '52 mN/m'")
+    g.add_argument("--interface", choices=("air-water",),
+                   help="air-water: hold the clean tension at the IAPWS water value")
+    t.add_argument("--bootstrap", type=int, default=0, metavar="N",
+                   help="also give residual-bootstrap intervals from N refits (useful for few points)")
+    t.add_argument("--seed", type=int, default=0, help="seed of the bootstrap (default 0)")
+    t.add_argument("--json", action="store_true", help="print JSON")
+    t.add_argument("--out", metavar="DIR", help="write DIR/NAME.toml ([surfactant] block) and its plot")
+    t.add_argument("--name", help="NAME of the written block (default: the CSV name without _tension)")
+    t.set_defaults(func=_tension)
+
+    d = sub.add_parser("depletion", help="surface excess by difference from depletion runs",
+                       description="Surface excess per run: (dose - what both bulk phases hold) / area.")
+    d.add_argument("data", metavar="DATA.csv")
+    d.add_argument("--partition-coefficient", type=float,
+                   help="c_oil/c_water for rows without a measured dispersed concentration")
+    d.add_argument("--json", action="store_true", help="print JSON")
+    d.set_defaults(func=_depletion)
+
+    q = sub.add_parser("partition", help="partition coefficient from paired oil/water concentrations",
+                       description="Partition coefficient c_oil/c_water from the points below the CMC.")
+    q.add_argument("data", metavar="DATA.csv")
+    q.add_argument("--cmc", help="CMC in the water, e.g. '0.065 mM' (default: fitted breakpoint)")
+    q.add_argument("--json", action="store_true", help="print JSON")
+    q.set_defaults(func=_partition)
+
+
+def _warn(lines) -> None:
+    for w in lines:
+        print(f"warning: {w}", file=sys.stderr)
+
+
+def _tension(args) -> int:
+    from ..fit import fit_tension, read_tension_csv, write_fitted_block
+    from ..properties import water_surface_tension
+    from ..units import parse
+
+    if args.bootstrap < 0:
+        from ..errors import InputError
+
+        raise InputError(f"--bootstrap: expected a number of refits >= 0, got {args.bootstrap}")
+    data = read_tension_csv(args.data)
+    temperature = parse(args.temperature, "--temperature", "temperature") if args.temperature else None
+    clean = parse(args.clean_tension, "--clean-tension", "tension") if args.clean_tension else None
+    if args.interface == "air-water":
+        clean = float(water_surface_tension(temperature or data.temperature or 298.15))
+    fit = fit_tension(data, temperature=temperature, gibbs_prefactor=args.gibbs_prefactor,
+                      model=args.model, clean_tension=clean, bootstrap=args.bootstrap, seed=args.seed)
+    written = write_fitted_block(fit, args.out, name=args.name) if args.out else None
+    if args.json:
+        out = fit.to_json()
+        if written:
+            out["written"] = [str(p) for p in written]
+        print(json.dumps(out, indent=2))
+    else:
+        print(_tension_text(fit))
+        if written:
+            print(f"wrote {written[0]} and {written[1]}")
+    _warn(fit.warnings)
+    return 0
+
+
+def _tension_text(fit) -> str:
+    from ..isotherm import area_from_surface_excess
+    from ..units import format_si
+
+    b = fit.best
+    rows = [("CMC", "cmc", "concentration", "mM"),
+            ("max surface excess", "max_surface_excess", "surface_excess", "umol/m**2"),
+            ("adsorption constant K", "adsorption_constant", "adsorption_constant", "m**3/mol"),
+            ("clean tension", "clean_tension", "tension", "mN/m")]
+    if fit.model == "frumkin":
+        rows.append(("interaction beta", "interaction", "dimensionless", None))
+    lines = [f"{fit.data.path}: {len(fit.data.concentration)} points, {fit.n_below} below and "
+             f"{fit.n_above} above the CMC, {fit.temperature - 273.15:.4g} degC, n = {fit.gibbs_prefactor:g}",
+             f"model used: {fit.selection}", "",
+             f"{'parameter':<24}{'value':>22}   95 % interval"]
+    for label, key, dim, unit in rows:
+        v = format_si(b.params[key], dim, unit, 4)
+        lo, hi = (format_si(x, dim, unit, 4) for x in b.intervals[key])
+        tag = " (fixed)" if key == "clean_tension" and fit.clean_tension_fixed is not None else ""
+        lines.append(f"{label:<24}{v:>22}   {lo} to {hi}{tag}")
+        if fit.bootstrap and key in fit.bootstrap:
+            blo, bhi = (format_si(x, dim, unit, 3) for x in fit.bootstrap[key])
+            lines.append(f"{'':<24}{'bootstrap':>22}   {blo} to {bhi}")
+    a = float(area_from_surface_excess(b.params["max_surface_excess"]))
+    alo, ahi = sorted(float(area_from_surface_excess(x)) for x in b.intervals["max_surface_excess"])
+    lines.append(f"{'area per molecule':<24}{format_si(a, 'area', 'nm**2', 4):>22}   "
+                 f"{format_si(alo, 'area', 'nm**2', 3)} to {format_si(ahi, 'area', 'nm**2', 3)}")
+    lines += ["", f"{'model':<12}{'AICc':>10}{'residual sd':>18}"]
+    for m, f in fit.fits.items():
+        sd = (f.rss / max(len(f.residuals) - len(f.fitted), 1)) ** 0.5
+        lines.append(f"{m:<12}{f.aicc:>10.2f}{format_si(sd, 'tension', 'mN/m', 3):>18}"
+                     f"{'   <- used' if m == fit.model else ''}")
+    lines += ["", f"{'concentration':>16}{'tension':>14}{'residual':>14}"]
+    for c, g, r in zip(fit.data.concentration, fit.data.tension, b.residuals):
+        lines.append(f"{format_si(c, 'concentration', 'mM', 4):>16}{format_si(g, 'tension', 'mN/m', 4):>14}"
+                     f"{format_si(r, 'tension', 'mN/m', 2):>14}")
+    if fit.notes:
+        lines += [""] + [f"note: {n}" for n in fit.notes]
+    return "\n".join(lines)
+
+
+def _depletion(args) -> int:
+    from ..fit import fit_depletion
+    from ..units import format_si
+
+    res = fit_depletion(args.data, partition_coefficient=args.partition_coefficient)
+    if args.json:
+        print(json.dumps(res.to_json(), indent=2))
+        return 0
+    lines = [f"{res.path}: surface excess by difference, (dose - c_c V_c - c_d V_d) / area", "",
+             f"{'row':>4} {'sample':<12}{'surface excess':>20}{'sd':>18}{'c continuous':>16}"
+             f"{'c dispersed':>16}  notes"]
+    for r in res.rows:
+        sd = r["surface_excess_sd_mol_m2"]
+        lines.append(
+            f"{r['row']:>4} {r['sample'][:12]:<12}"
+            f"{format_si(r['surface_excess_mol_m2'], 'surface_excess', 'umol/m**2', 4):>20}"
+            f"{(format_si(sd, 'surface_excess', 'umol/m**2', 2) if sd is not None else 'n/a'):>18}"
+            f"{format_si(r['continuous_concentration_mol_m3'], 'concentration', 'mM', 4):>16}"
+            f"{format_si(r['dispersed_concentration_mol_m3'], 'concentration', 'mM', 4):>16}"
+            f"  {'; '.join(r['notes'])}")
+    for s, f in res.langmuir.items():
+        if "note" in f:
+            lines.append(f"Langmuir fit ({s}): {f['note']}")
+            continue
+        iv = f["intervals"]
+        lines.append(
+            f"Langmuir fit ({s}, {f['n_rows']} rows): max surface excess "
+            f"{format_si(f['max_surface_excess_mol_m2'], 'surface_excess', 'umol/m**2', 4)} "
+            f"(95 %: {' to '.join(format_si(v, 'surface_excess', 'umol/m**2', 3) for v in iv['max_surface_excess_mol_m2'])}), "
+            f"K {format_si(f['adsorption_constant_m3_mol'], 'adsorption_constant', 'm**3/mol', 4)} "
+            f"(95 %: {' to '.join(format_si(v, 'adsorption_constant', 'm**3/mol', 3) for v in iv['adsorption_constant_m3_mol'])})")
+    lines += [f"note: {n}" for n in res.notes]
+    print("\n".join(lines))
+    return 0
+
+
+def _partition(args) -> int:
+    from ..fit import fit_partition
+    from ..units import format_si, parse
+
+    cmc = parse(args.cmc, "--cmc", "concentration") if args.cmc else None
+    res = fit_partition(args.data, cmc=cmc)
+    if args.json:
+        print(json.dumps(res.to_json(), indent=2))
+        return 0
+    lo, hi = res.interval
+    lines = [f"{res.path}: partition coefficient c_oil/c_water = {res.partition_coefficient:.4g} [-] "
+             f"(95 %: {lo:.3g} to {hi:.3g} [-]), {res.method}",
+             f"CMC: {format_si(res.cmc, 'concentration', 'mM', 4) if res.cmc else 'none'} ({res.cmc_source})",
+             "", f"{'row':>4}{'c water':>16}{'c oil':>16}{'ratio [-]':>12}  flag"]
+    for r in res.rows:
+        lines.append(f"{r['row']:>4}{format_si(r['water_concentration_mol_m3'], 'concentration', 'mM', 4):>16}"
+                     f"{format_si(r['oil_concentration_mol_m3'], 'concentration', 'mM', 4):>16}"
+                     f"{r['ratio']:>12.4g}  {r['flag'] or ''}")
+    lines += [f"note: {n}" for n in res.notes]
+    print("\n".join(lines))
+    return 0

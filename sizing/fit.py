@@ -1,0 +1,249 @@
+"""Lab data to parameters: the fitted ``[surfactant]`` block, its provenance and its plot.
+
+The fits themselves live in :mod:`sizing.fit_tension` (CMC and isotherm from a tension
+series), :mod:`sizing.fit_depletion` (surface excess by difference) and
+:mod:`sizing.fit_partition` (oil/water partition coefficient); this module re-exports them and
+writes what a case file can reference: a TOML file with a ``[surfactant]`` table (case keys only)
+and a ``[provenance]`` table, next to an SVG plot of the data, the fits and the residuals.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import hashlib
+import io
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+from .errors import InputError
+from .fit_depletion import DepletionFit, fit_depletion, fit_langmuir_excess, surface_excess_by_difference
+from .fit_partition import PartitionFit, fit_partition
+from .fit_tension import (
+    CONFIDENCE,
+    TensionData,
+    TensionFit,
+    fit_tension,
+    fitted_curve,
+    model_tension,
+    read_tension_csv,
+    select_model,
+)
+from .isotherm import area_from_surface_excess
+from .units import format_si, parse
+
+__all__ = [
+    "DepletionFit", "PartitionFit", "TensionData", "TensionFit", "fit_depletion", "fit_langmuir_excess",
+    "fit_partition", "fit_tension", "fitted_curve", "model_tension", "plot_svg_for_provenance",
+    "read_tension_csv", "select_model", "surface_excess_by_difference", "surfactant_block",
+    "tension_plot_svg", "write_fitted_block",
+]
+
+DIGITS = 6  # significant digits of the unit strings written to TOML
+_UNITS = {  # parameter -> (dimension, unit written)
+    "max_surface_excess": ("surface_excess", "umol/m**2"),
+    "adsorption_constant": ("adsorption_constant", "m**3/mol"),
+    "cmc": ("concentration", "mM"),
+    "clean_tension": ("tension", "mN/m"),
+}
+
+
+def _text(value: float, name: str) -> str:
+    dim, unit = _UNITS[name]
+    return format_si(float(value), dim, unit, DIGITS)
+
+
+def block_stem(csv_path) -> str:
+    """Return the name of the fitted block for a data file: its stem without ``_tension``.
+
+    >>> block_stem("lab/nonionic_tension.csv")
+    'nonionic'
+    """
+    stem = Path(csv_path).stem
+    for suffix in ("_tension", "-tension"):
+        if stem.endswith(suffix) and len(stem) > len(suffix):
+            return stem[: -len(suffix)]
+    return stem
+
+
+def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: str | None = None) -> dict:
+    """Return ``{"surfactant": {...}, "provenance": {...}}`` for a tension fit.
+
+    ``surfactant`` holds only case keys (isotherm, max_surface_excess, adsorption_constant,
+    interaction, gibbs_prefactor, cmc, clean_tension) as unit strings rounded to 6 significant
+    digits; ``provenance`` records the source, date, model, temperature, AICc table, 95 %
+    intervals (unit strings), the plot file name and notes.
+    """
+    b = fit.best
+    p = b.params
+    n = fit.gibbs_prefactor
+    surf = {
+        "isotherm": fit.model,
+        "max_surface_excess": _text(p["max_surface_excess"], "max_surface_excess"),
+        "adsorption_constant": _text(p["adsorption_constant"], "adsorption_constant"),
+        "interaction": float(f"{p['interaction']:.{DIGITS}g}"),
+        "gibbs_prefactor": int(n) if float(n).is_integer() else float(n),
+        "cmc": _text(p["cmc"], "cmc"),
+        "clean_tension": _text(p["clean_tension"], "clean_tension"),
+    }
+    intervals = {k: [_text(v, k) for v in b.intervals[k]] for k in _UNITS}
+    if fit.model == "frumkin":
+        intervals["interaction"] = [f"{v:.4g}" for v in b.intervals["interaction"]]
+    a = float(area_from_surface_excess(p["max_surface_excess"]))
+    prov = {
+        "kind": "tension series fit",
+        "source": Path(fit.data.path).name,
+        "fitted": _dt.date.today().isoformat(),
+        "model": fit.model,
+        "selection": fit.selection,
+        "temperature": format_si(fit.temperature, "temperature", "degC", DIGITS),
+        "gibbs_prefactor": surf["gibbs_prefactor"],
+        "clean_tension_fitted": fit.clean_tension_fixed is None,
+        "confidence": CONFIDENCE,
+        "area_per_molecule": format_si(a, "area", "nm**2", 4),
+        "points_below_cmc": fit.n_below,
+        "points_above_cmc": fit.n_above,
+        "residual_sd": format_si(float(np.sqrt(b.rss / max(len(b.residuals) - len(b.fitted), 1))),
+                                 "tension", "mN/m", 3),
+        "aicc": {m: round(f.aicc, 3) for m, f in fit.fits.items()},
+        "intervals": intervals,
+        "notes": list(fit.notes) + [f"warning: {w}" for w in fit.warnings],
+    }
+    if fit.bootstrap:
+        prov["bootstrap_intervals"] = {k: [_text(v, k) for v in fit.bootstrap[k]] for k in _UNITS}
+    if source_path:
+        prov["source_path"] = source_path
+    try:
+        prov["source_sha256"] = hashlib.sha256(Path(fit.data.path).read_bytes()).hexdigest()
+    except OSError:
+        pass
+    if plot:
+        prov["plot"] = plot
+    return {"surfactant": surf, "provenance": prov}
+
+
+def _atomic_write(path: Path, data: str | bytes) -> None:
+    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> tuple[Path, Path]:
+    """Write ``DIR/NAME.toml`` (the block) and ``DIR/NAME_tension_fit.svg`` (the plot), atomically.
+
+    Returns
+    -------
+    (toml_path, svg_path)
+    """
+    import tomli_w
+
+    out = Path(out_dir)
+    stem = name or block_stem(fit.data.path)
+    toml_path, svg_path = out / f"{stem}.toml", out / f"{stem}_tension_fit.svg"
+    svg = tension_plot_svg(fit)  # render first: a failure writes nothing
+    rel = os.path.relpath(Path(fit.data.path).resolve(), out.resolve())
+    block = surfactant_block(fit, plot=svg_path.name, source_path=Path(rel).as_posix())
+    text = (f"# Fitted with `sizing fit tension` from {Path(fit.data.path).name}; a case uses it with\n"
+            f"# [surfactant] from = \".../{toml_path.name}\" (the path relative to the case file)\n"
+            + tomli_w.dumps(block))
+    _atomic_write(svg_path, svg)
+    _atomic_write(toml_path, text)
+    return toml_path, svg_path
+
+
+def tension_plot_svg(fit: TensionFit) -> str:
+    """Return an SVG plot: tension against log concentration with every model, CMC and residuals."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    d = fit.data
+    with matplotlib.rc_context({"svg.hashsalt": "sizing-fit", "svg.fonttype": "path"}):
+        fig, (ax, axr) = plt.subplots(2, 1, sharex=True, figsize=(6.4, 5.6),
+                                      gridspec_kw={"height_ratios": [3, 1]})
+        cmc = fit.best.params["cmc"]
+        lo, hi = fit.best.intervals["cmc"]
+        for a in (ax, axr):
+            a.axvspan(lo, hi, color="0.88", lw=0)
+            a.axvline(cmc, color="0.4", lw=1, ls=":")
+        styles = {"langmuir": "C0", "frumkin": "C1", "volmer": "C2"}
+        for m in fit.fits:
+            c, g = fitted_curve(fit, m)
+            chosen = m == fit.model
+            ax.plot(c, g * 1e3, color=styles.get(m, "k"), lw=2 if chosen else 1,
+                    ls="-" if chosen else "--",
+                    label=f"{m} (AICc {fit.fits[m].aicc:.1f}){' - used' if chosen else ''}")
+        ax.plot(d.concentration, d.tension * 1e3, "o", color="k", ms=4, label="data")
+        ax.annotate(f"CMC {cmc:.4g} mM\n95 %: {lo:.3g} to {hi:.3g} mM", xy=(cmc, ax.get_ylim()[1]),
+                    xytext=(-4, -28), textcoords="offset points", fontsize=8, ha="right")
+        ax.set_xscale("log")
+        ax.set_ylabel("tension [mN/m]")
+        ax.set_title(f"{Path(d.path).name}: {fit.model}, {fit.temperature - 273.15:.4g} degC, "
+                     f"n = {fit.gibbs_prefactor:g}", fontsize=9)
+        ax.legend(fontsize=8, loc="lower left")
+        axr.axhline(0, color="0.5", lw=0.8)
+        axr.plot(d.concentration, fit.best.residuals * 1e3, "o", color=styles.get(fit.model, "k"), ms=4)
+        axr.set_ylabel("residual [mN/m]")
+        axr.set_xlabel("concentration [mM] (= mol/m**3)")
+        fig.tight_layout()
+        buf = io.StringIO()
+        fig.savefig(buf, format="svg", metadata={"Date": None})
+        plt.close(fig)
+    return buf.getvalue()
+
+
+def plot_svg_for_provenance(toml_path) -> str | None:
+    """Return the SVG plot of a fitted block, re-rendered from its source CSV if the file is gone.
+
+    Parameters
+    ----------
+    toml_path : str or Path
+        A TOML file written by :func:`write_fitted_block`.
+
+    Returns
+    -------
+    str or None
+        The SVG text, or None when the file records no plot and no readable source.
+
+    Raises
+    ------
+    InputError
+        The TOML file is missing or unreadable, or its source CSV no longer fits.
+    """
+    import tomllib
+
+    path = Path(toml_path)
+    try:
+        doc = tomllib.loads(path.read_text(encoding="utf-8"))
+    except FileNotFoundError as exc:
+        raise InputError(f"surfactant.from: file not found: {path}") from exc
+    except (OSError, tomllib.TOMLDecodeError) as exc:
+        raise InputError(f"surfactant.from: cannot read {path} as TOML ({exc})") from exc
+    prov = doc.get("provenance") or {}
+    plot = prov.get("plot")
+    if plot and (path.parent / plot).is_file():
+        return (path.parent / plot).read_text(encoding="utf-8")
+    src = prov.get("source_path")
+    if not src or not (path.parent / src).is_file():
+        return None
+    surf = doc.get("surfactant") or {}
+    fixed = None
+    if not prov.get("clean_tension_fitted", True) and "clean_tension" in surf:
+        fixed = parse(surf["clean_tension"], "surfactant.clean_tension", "tension")
+    temperature = parse(prov["temperature"], "provenance.temperature", "temperature") \
+        if "temperature" in prov else None
+    fit = fit_tension(path.parent / src, temperature=temperature,
+                      gibbs_prefactor=float(prov.get("gibbs_prefactor", surf.get("gibbs_prefactor", 1))),
+                      model=prov.get("model"), clean_tension=fixed)
+    return tension_plot_svg(fit)
