@@ -104,7 +104,7 @@ def c_of_theta(theta, adsorption_constant, model: str = "langmuir", beta=0.0):
     """
     model = check_model(model, beta)
     theta = np.asarray(theta, dtype=float)
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", over="ignore"):
         lnkc, _ = lnkc_of_logit(logit(theta), model, beta)
         return np.exp(lnkc) / np.asarray(adsorption_constant, dtype=float)
 
@@ -114,7 +114,8 @@ def theta_of_c(c, adsorption_constant, model: str = "langmuir", beta=0.0):
 
     Langmuir is explicit; Volmer uses the Lambert W function (``K c = u e**u`` with
     ``u = theta/(1 - theta)``); Frumkin is a bracketed Newton root in ``logit(theta)``,
-    vectorised over arrays.
+    vectorised over arrays.  At the Frumkin critical point (beta = 2, theta = 1/2) the slope
+    d theta / d c is infinite, so theta there is only good to about 1e-5.
 
     Examples
     --------
@@ -131,7 +132,8 @@ def theta_of_c(c, adsorption_constant, model: str = "langmuir", beta=0.0):
         return kc / (1.0 + kc)
     if model == "volmer":
         u = lambertw(kc).real
-        return u / (1.0 + u)
+        with np.errstate(invalid="ignore"):
+            return np.where(np.isinf(kc), 1.0, u / (1.0 + u))
     # Frumkin: y - 2 beta expit(y) = ln(K c), y in [L + min(0, 2 beta), L + max(0, 2 beta)]
     with np.errstate(divide="ignore"):
         lnkc = np.log(kc)
