@@ -229,41 +229,56 @@ def fit_depletion(path, *, partition_coefficient=None) -> DepletionFit:
             langmuir[key] = {"note": f"{len(idx)} row(s) with a positive surface excess; a Langmuir "
                                      f"fit needs at least {MIN_LANGMUIR_ROWS}"}
             continue
-        langmuir[key] = fit_langmuir_excess(cc[idx], gamma[idx], sd[idx] if has_sd else None)
+        langmuir[key] = fit_langmuir_excess(cc[idx], gamma[idx], sd[idx] if has_sd else None,
+                                            c_sd=col("continuous_concentration_sd")[idx])
     return DepletionFit(p, rows, langmuir, tuple(file_notes))
 
 
-def fit_langmuir_excess(c, gamma, sd=None) -> dict:
+def fit_langmuir_excess(c, gamma, sd=None, c_sd=None) -> dict:
     """Fit ``Gamma = Gamma_inf K c / (1 + K c)`` to (c [mol/m**3], Gamma [mol/m**2]).
 
-    Least squares (``scipy.optimize.curve_fit``) on ``ln Gamma_inf`` and ``ln K``, weighted by
-    ``sd`` when every row has one; 95 % intervals from the covariance with Student's t on the
+    Least squares (``scipy.optimize.curve_fit``) on ``ln Gamma_inf`` and ``ln K``, weighted when
+    every row has a standard deviation: ``sd`` of Gamma and, where given, ``c_sd`` of the
+    concentration through the effective variance ``sd**2 + (dGamma/dc c_sd)**2`` (two passes).
+    95 % intervals from the covariance (scaled by the residual scatter) with Student's t on the
     log scale.
 
     Returns
     -------
     dict
         ``max_surface_excess_mol_m2``, ``adsorption_constant_m3_mol``, ``intervals`` {same
-        keys: [low, high]}, ``n_rows``.
+        keys: [low, high]}, ``n_rows``, ``weighted``.
+
+    Examples
+    --------
+    >>> c = [0.001, 0.003, 0.01, 0.03, 0.1]
+    >>> g = [3e-6 * 500 * x / (1 + 500 * x) for x in c]
+    >>> f = fit_langmuir_excess(c, g)
+    >>> round(f["max_surface_excess_mol_m2"] * 1e6, 9), round(f["adsorption_constant_m3_mol"], 6)
+    (3.0, 500.0)
     """
     from scipy.optimize import curve_fit
     from scipy.stats import t as student_t
 
     c, g = np.asarray(c, dtype=float), np.asarray(gamma, dtype=float)
-    sigma = None
-    if sd is not None and np.all(np.asarray(sd) > 0):
-        sigma = np.asarray(sd, dtype=float)
+    sd_g = None if sd is None else np.asarray(sd, dtype=float)
+    sd_c = np.zeros_like(c) if c_sd is None else np.nan_to_num(np.asarray(c_sd, dtype=float))
+    weighted = sd_g is not None and bool(np.all(sd_g > 0))
 
     def f(x, lg, lk):
         kc = np.exp(lk) * x
         return np.exp(lg) * kc / (1 + kc) * 1e6  # umol/m2 for conditioning
 
-    g0 = float(np.max(g)) * 1.2
-    k0 = 1.0 / float(np.median(c))
-    popt, pcov = curve_fit(f, c, g * 1e6, p0=[math.log(g0), math.log(k0)],
-                           sigma=None if sigma is None else sigma * 1e6, absolute_sigma=False,
-                           bounds=([math.log(1e-9), math.log(1e-6)], [math.log(1e-3), math.log(1e12)]),
-                           maxfev=20000)
+    bounds = ([math.log(1e-9), math.log(1e-6)], [math.log(1e-3), math.log(1e12)])
+    popt = np.array([math.log(float(np.max(g)) * 1.2), math.log(1.0 / float(np.median(c)))])
+    sigma = None
+    for _ in range(3 if weighted else 1):
+        if weighted:
+            kk = math.exp(popt[1])
+            slope = math.exp(popt[0]) * kk / (1 + kk * c) ** 2  # dGamma/dc [m]
+            sigma = np.sqrt(sd_g**2 + (slope * sd_c) ** 2) * 1e6
+        popt, pcov = curve_fit(f, c, g * 1e6, p0=popt, sigma=sigma, absolute_sigma=False,
+                               bounds=bounds, maxfev=20000)
     dof = max(len(c) - 2, 1)
     tq = float(student_t.ppf(0.5 + CONFIDENCE / 2, dof))
     se = np.sqrt(np.clip(np.diag(pcov), 0, None))
@@ -272,4 +287,4 @@ def fit_langmuir_excess(c, gamma, sd=None) -> dict:
     return {"max_surface_excess_mol_m2": float(np.exp(popt[0])),
             "adsorption_constant_m3_mol": float(np.exp(popt[1])),
             "intervals": {"max_surface_excess_mol_m2": list(iv[0]), "adsorption_constant_m3_mol": list(iv[1])},
-            "n_rows": int(len(c)), "weighted": sigma is not None}
+            "n_rows": int(len(c)), "weighted": weighted}

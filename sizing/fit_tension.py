@@ -303,11 +303,13 @@ def _bounds(names, logc, y_mn):
 
 
 def _candidates(logc):
+    """Start the breakpoint in every gap leaving 2 points below and 1 above (the counts are
+    checked after the fit, so that too few points give an error rather than a forced break)."""
     u = np.unique(logc)
-    if len(u) < MIN_BELOW + MIN_ABOVE:
+    if len(u) < 4:
         return []
     mids = 0.5 * (u[:-1] + u[1:])
-    return list(mids[MIN_BELOW - 1: len(u) - MIN_ABOVE])
+    return list(mids[1:])
 
 
 def _solve(fun, x0, lo, hi):
