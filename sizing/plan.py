@@ -1,0 +1,545 @@
+"""The dosing recommendation and the plant-trial matrix of a case (pure computation).
+
+The recommended charge is the dose for the target times ``1 + margin``, rounded *up* to the
+practical increment of the product as weighed (e.g. 0.5 kg)::
+
+    m_charge = increment * ceil(m_target (1 + margin) / increment)        [kg of product]
+
+The state at that charge comes from the forward balance (dose -> state), so the coverage, the
+free monomer and the micelles reported for the charge and for each trial level are what the
+balance gives for the amount actually charged (micelles appear above the CMC).  When the target
+cannot be reached at equilibrium (it needs a free concentration above the CMC), the charge is
+built on the dose that just reaches the CMC ceiling and the plan says so.
+
+Every array computation is one call of :func:`sizing.model.solve`: the trial levels, the
+dose-coverage curve and the d32 what-if are each a single vectorised solve.
+
+:class:`Plan` is frozen but carries a plain dict ``extras``, so later parts (uncertainty,
+scale-up) can attach their results without changing this module.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import model
+
+CAUTIONS = (
+    "This is an equilibrium estimate from a mass balance; confirm the dose by a plant trial before "
+    "adopting it.",
+    "Handle surfactants per their safety data sheet (SDS), with suitable protective equipment "
+    "(eye protection, gloves) and the site's handling procedures.",
+    "Food, cosmetic and pharmaceutical products have legal limits on emulsifier levels; check the "
+    "charge against the regulations that apply to the product and market.",
+    "Defer to local codes, site procedures and qualified practice; a plant trial needs the usual "
+    "approvals (management of change, hazard review).",
+)
+
+MODEL_ASSUMPTIONS = (
+    "Equilibrium: adsorption, partitioning and micellisation have finished (no kinetic losses).",
+    "Pseudo-phase model: the free monomer never exceeds the CMC; surfactant beyond it forms "
+    "micelles in the continuous phase.",
+    "The interfacial area is the shape factor times 6 V_d / d32 (the Sauter mean sets the area).",
+    "One surface-active species; other ingredients neither adsorb nor bind the surfactant.",
+    "The partition coefficient of the monomer is constant below the CMC.",
+)
+
+AUTO_INCREMENT_NOTE = "automatic: a 1-2-5 step near 1 % of the charge (no [recommendation] increment)"
+
+
+# ---------------------------------------------------------------------------------------------
+# rounding
+
+
+def auto_increment(kg) -> float:
+    """Return a practical 1-2-5 weighing step [kg] near 1 % of ``kg`` (at least 1 g).
+
+    >>> auto_increment(11.42), auto_increment(230.0), auto_increment(0.0)
+    (0.1, 2.0, 0.001)
+    """
+    x = float(kg) * 0.01
+    if not (x > 0 and math.isfinite(x)):
+        return 0.001
+    exp = math.floor(math.log10(x))
+    mant = x / 10**exp
+    step = 1 if mant < 2 else 2 if mant < 5 else 5
+    return max(round(step * 10**exp, 12), 0.001)
+
+
+def charge_for_dose(kg_product, margin, increment):
+    """Return the charge [kg of product]: ``increment * ceil(kg_product (1 + margin) / increment)``.
+
+    Parameters
+    ----------
+    kg_product : dose for the target [kg of product]; scalars or arrays broadcast
+    margin : safety margin [-]
+    increment : weighing step [kg]
+
+    Notes
+    -----
+    A relative tolerance of 1e-9 keeps float noise from adding a whole step (11.5000000001 kg
+    with a 0.5 kg step stays 11.5 kg).  nan stays nan.
+
+    Examples
+    --------
+    >>> float(charge_for_dose(11.4208, 0.15, 0.5))   # 13.134 kg -> next 0.5 kg step
+    13.5
+    >>> float(charge_for_dose(10.0, 0.15, 0.5))      # 11.5 exactly stays 11.5
+    11.5
+    """
+    x = np.asarray(kg_product, dtype=float) * (1.0 + np.asarray(margin, dtype=float))
+    inc = np.asarray(increment, dtype=float)
+    steps = np.ceil(x / inc * (1 - 1e-9))
+    return np.maximum(steps, 1.0) * inc
+
+
+# ---------------------------------------------------------------------------------------------
+# containers
+
+
+@dataclass(frozen=True)
+class Recommendation:
+    """The recommended charge per batch and the equilibrium it gives.
+
+    Attributes
+    ----------
+    kg_product_per_batch [kg], kg_active_per_batch [kg], mol_per_batch [mol]
+    wt_percent : product per batch mass [%] (nan without densities)
+    wt_percent_active [%], g_per_l : product per litre of batch [g/L]
+    percent_on_dispersed : product per mass of dispersed phase [%] (nan for a foam)
+    mg_per_m2 : active per interfacial area [mg/m**2]
+    cost_per_batch [currency] (nan without a price); currency
+    margin [-]; increment_kg [kg]; increment_source : 'case' or the automatic rule
+    basis : 'target' or 'cmc_ceiling' (target not reachable: built on the ceiling dose)
+    reaches_target : bool
+    base_kg_product : the dose the charge is built on, before margin and rounding [kg]
+    coverage_at_charge [-], free_concentration_at_charge [mol/m**3], tension_at_charge [N/m]
+    micelle_share_at_charge : micelles over the charge [-]
+    split_mol_at_charge : {water, oil, interface, micelles} [mol]
+    """
+
+    kg_product_per_batch: float
+    kg_active_per_batch: float
+    mol_per_batch: float
+    wt_percent: float
+    wt_percent_active: float
+    g_per_l: float
+    percent_on_dispersed: float
+    mg_per_m2: float
+    cost_per_batch: float
+    currency: str
+    margin: float
+    increment_kg: float
+    increment_source: str
+    basis: str
+    reaches_target: bool
+    base_kg_product: float
+    coverage_at_charge: float
+    free_concentration_at_charge: float
+    tension_at_charge: float
+    micelle_share_at_charge: float
+    split_mol_at_charge: dict
+
+
+@dataclass(frozen=True)
+class TrialLevel:
+    """One level of the trial matrix (a multiple of the recommended charge).
+
+    Attributes
+    ----------
+    level : multiple of the recommended charge [-]
+    kg_product [kg], kg_active [kg], mol [mol] per batch; wt_percent [%]
+    coverage [-]; free_concentration [mol/m**3]; tension [N/m] (nan without a clean tension)
+    micelle_share : micelles over the dose [-]; batches : batches at this level
+    measure : what to measure at this level (text)
+    """
+
+    level: float
+    kg_product: float
+    kg_active: float
+    mol: float
+    wt_percent: float
+    coverage: float
+    free_concentration: float
+    tension: float
+    micelle_share: float
+    batches: int
+    measure: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class Curves:
+    """Chart data.  Arrays in SI ([kg], [-], [mol/m**3], [m]).
+
+    dose_kg_product, coverage, free_concentration : the forward curve dose -> coverage
+    ceiling_kg_product : product dose at which the free monomer reaches the CMC (nan: no CMC)
+    d32, d32_dose_kg_product : dose for the target (or the ceiling dose) against d32
+    d32_charge_kg_product : the charge (margin and rounding) against d32
+    """
+
+    dose_kg_product: np.ndarray
+    coverage: np.ndarray
+    free_concentration: np.ndarray
+    ceiling_kg_product: float
+    d32: np.ndarray
+    d32_dose_kg_product: np.ndarray
+    d32_charge_kg_product: np.ndarray
+
+
+@dataclass(frozen=True)
+class Plan:
+    """A planned case: the solve, the recommendation, the trial matrix and the chart data.
+
+    Attributes
+    ----------
+    case : the validated case; inputs : :class:`sizing.model.Inputs`
+    solution : the target solve (:class:`sizing.model.Solution`)
+    solve_json : :func:`sizing.model.solution_json` of it (the solve contract)
+    feasible : the target is reachable at equilibrium
+    target_coverage : theta the target asks for [-]
+    recommendation : :class:`Recommendation`; trial : tuple of :class:`TrialLevel`
+    curves : :class:`Curves`; assumptions : list of dicts {path, label, value, source}
+    model_assumptions, cautions : tuples of text; options : what to do when unreachable
+    case_notes : the case file's header comment (its story and sources), '' when unknown
+    extras : dict for later parts (e.g. 'uncertainty'); JSON-ready values are merged into
+        result.json under their own keys
+    """
+
+    case: object
+    inputs: model.Inputs
+    solution: model.Solution
+    solve_json: dict
+    feasible: bool
+    target_coverage: float
+    recommendation: Recommendation
+    trial: tuple
+    curves: Curves
+    assumptions: list
+    model_assumptions: tuple
+    cautions: tuple
+    options: tuple
+    case_notes: str = ""
+    source: str = ""
+    extras: dict = field(default_factory=dict)
+
+    def to_json(self) -> dict:
+        """Return result.json: the solve contract plus recommendation, trial, cautions, ..."""
+        return plan_json(self)
+
+
+# ---------------------------------------------------------------------------------------------
+# building a plan
+
+
+def _f(x) -> float:
+    return float(np.asarray(x, dtype=float))
+
+
+def measurements(system: str, continuous: str, micelles: bool, lowest: bool) -> tuple[str, ...]:
+    """Return what to measure at a trial level (text), by the kind of dispersion."""
+    if system == "foam":
+        out = ["bubble size (d32 and spread, microscopy or image analysis)",
+               "surface tension of the drained liquid",
+               "overrun and drainage half-life; bubble growth over the shelf life"]
+    else:
+        out = ["drop size (d32, dv90, laser diffraction) fresh and after 24 h",
+               "interfacial or surface tension of the separated continuous phase",
+               "creaming or sedimentation (visual or accelerated, e.g. centrifuge) and viscosity"]
+        if continuous == "oil":
+            out[2] = "sedimentation of water drops, conductivity (phase check) and viscosity"
+    if lowest:
+        out.append("watch for coalescence or coarse drops: the margin's lower bound")
+    if micelles:
+        out.append("free surfactant above the CMC: watch foaming and depletion flocculation")
+    return tuple(out)
+
+
+def case_notes(path) -> str:
+    """Return the header comment block of a case file (without the '#'), '' if none."""
+    if path is None:
+        return ""
+    try:
+        lines = open(path, encoding="utf-8").read().splitlines()
+    except OSError:
+        return ""
+    out = []
+    for line in lines:
+        s = line.strip()
+        if s.startswith("#"):
+            out.append(s[1:][1:] if s[1:2] == " " else s[1:])
+        elif s == "" and out:
+            out.append("")
+        elif s == "":
+            continue
+        else:
+            break
+    return "\n".join(out).strip()
+
+
+_LABELS = {
+    "batch.volume": "batch volume", "batch.mass": "batch mass",
+    "batch.dispersed_fraction": "dispersed fraction", "batch.temperature": "temperature",
+    "batch.continuous_density": "continuous-phase density", "batch.dispersed_density": "dispersed-phase density",
+    "drops.d32": "Sauter mean diameter d32", "drops.median": "median diameter", "drops.gsd": "geometric SD",
+    "drops.characteristic_size": "RRSB characteristic size", "drops.spread": "RRSB spread",
+    "drops.shape_factor": "shape factor", "surfactant.molar_mass": "molar mass",
+    "surfactant.active_fraction": "active fraction of the product", "surfactant.cmc": "CMC",
+    "surfactant.max_surface_excess": "maximum surface excess",
+    "surfactant.area_per_molecule": "area per molecule",
+    "surfactant.adsorption_constant": "adsorption constant K", "surfactant.interaction": "Frumkin beta",
+    "surfactant.gibbs_prefactor": "Gibbs prefactor n", "surfactant.partition_coefficient": "partition coefficient",
+    "surfactant.clean_tension": "clean-interface tension", "surfactant.price_per_kg": "price per kg of product",
+    "surfactant.diffusivity": "monomer diffusivity", "target.coverage": "target coverage",
+    "target.tension": "target tension", "target.free_concentration": "target free concentration",
+    "target.margin": "safety margin", "recommendation.increment": "charge increment",
+}
+
+
+def _raw_has(case, path: str) -> bool:
+    raw = getattr(case, "_raw", None) or {}
+    section, _, key = path.partition(".")
+    return isinstance(raw.get(section), dict) and key in raw[section]
+
+
+def assumptions(case, inputs: model.Inputs) -> list[dict]:
+    """Return one dict per parameter: ``{path, label, value, source}`` (value as written)."""
+    prov = case.provenance or {}
+    fitted = set(prov.get("keys_from_file", ()))
+    out = []
+    for path, v in case.quantities().items():
+        section, _, key = path.partition(".")
+        if _raw_has(case, path):
+            src = "case file"
+        elif section == "surfactant" and key in fitted:
+            src = f"fitted block {prov.get('file', '')}".strip()
+            if prov.get("kind") or prov.get("source"):
+                src += f" ({', '.join(str(prov[k]) for k in ('kind', 'source') if prov.get(k))})"
+        else:
+            src = "default"
+        raw = v.raw
+        if isinstance(raw, dict):
+            raw = raw.get("value")
+        text = str(raw)
+        if v.spread is not None:
+            text += (f" (log-normal, rel. SD {v.spread[1]:g})" if v.spread[0] == "lognormal"
+                     else " (uniform spread)")
+        out.append({"path": path, "label": _LABELS.get(path, path), "value": text, "source": src})
+    s = case.surfactant
+    out.append({"path": "surfactant.isotherm", "label": "isotherm", "value": inputs.model,
+                "source": "case file" if _raw_has(case, "surfactant.isotherm") else
+                ("fitted block" if "isotherm" in fitted else "default")})
+    if s.cmc is None:
+        out.append({"path": "surfactant.cmc", "label": "CMC", "value": "none (no micelles)",
+                    "source": "case file (no cmc given)"})
+    if s.clean_tension is None and math.isfinite(_f(inputs.clean_tension)):
+        out.append({"path": "surfactant.clean_tension", "label": "clean-interface tension",
+                    "value": f"{_f(inputs.clean_tension) * 1e3:.4g} mN/m", "source": inputs.clean_tension_source})
+    return out
+
+
+def options_when_unreachable(plan_case, inputs: model.Inputs, max_coverage: float) -> tuple[str, ...]:
+    """Return the options an engineer has when the target needs more than the CMC allows."""
+    return (
+        f"Accept a lower coverage: at equilibrium the CMC caps it at {max_coverage:.3g} "
+        "(set target.coverage below that and re-plan).",
+        "Choose another surfactant: a lower CMC relative to its adsorption constant (larger K x CMC) "
+        "reaches a higher coverage before micelles form.",
+        "Make larger drops or bubbles (less area): this lowers the dose but does not raise the "
+        "coverage ceiling, which is set by K x CMC.",
+        "Use a co-surfactant or salt to lower the CMC or raise adsorption (test in the lab first).",
+    )
+
+
+def _level_rows(case, sol: model.Solution, levels, charge_kg: float, increment: float) -> tuple:
+    rows = []
+    st = sol.state
+    total = np.asarray(st.total_mol, dtype=float)
+    share = np.where(total > 0, np.asarray(st.micelle_mol) / np.where(total > 0, total, 1.0), 0.0)
+    system, continuous = case.case.system, case.case.continuous
+    for j, lev in enumerate(levels):
+        i = j + 1  # index 0 is the charge itself
+        rows.append(TrialLevel(
+            level=float(lev), kg_product=_f(sol.kg_product[i]), kg_active=_f(sol.kg_active[i]),
+            mol=_f(sol.dose_mol[i]), wt_percent=_f(np.asarray(sol.wt_percent)[i]),
+            coverage=_f(st.coverage[i]), free_concentration=_f(st.free_concentration[i]),
+            tension=_f(np.asarray(sol.tension)[i]), micelle_share=_f(share[i]),
+            batches=int(case.trial.batches_per_level),
+            measure=measurements(system, continuous, bool(st.micelle_mol[i] > 0), j == 0),
+        ))
+    return tuple(rows)
+
+
+def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61) -> Plan:
+    """Plan a validated case: recommendation, trial matrix, chart data and assumptions.
+
+    Parameters
+    ----------
+    case : :class:`sizing.case.Case`
+    source : path of the case file (for its header notes), optional
+    curve_points, d32_points : resolution of the two charts [-]
+
+    Returns
+    -------
+    Plan
+
+    Raises
+    ------
+    InputError
+        From the engine (e.g. a tension target without a clean tension).
+    """
+    inputs = model.case_inputs(case)
+    target_sol = model.solve(inputs)
+    solve_json = model.solution_json(target_sol, case)
+    feasible = bool(np.all(target_sol.feasible))
+    _, target_theta = model.target_concentration(inputs)
+    cmc = _f(inputs.cmc)
+    # the dose at the CMC ceiling (free monomer = CMC, no micelles): one explicit solve
+    if math.isfinite(cmc):
+        ceil_sol = model.solve(inputs.with_values(target_kind="free_concentration", target_value=cmc))
+        ceiling_kg = _f(ceil_sol.kg_product)
+    else:
+        ceiling_kg = math.nan
+    base_kg = _f(target_sol.kg_product) if feasible else ceiling_kg
+    margin = _f(inputs.margin)
+    inc_value = case.recommendation.increment
+    if inc_value is not None:
+        increment, inc_source = inc_value.si, "case"
+    else:
+        increment, inc_source = auto_increment(base_kg * (1 + margin)), AUTO_INCREMENT_NOTE
+    charge_kg = _f(charge_for_dose(base_kg, margin, increment))
+
+    # the charge and every trial level: one forward solve
+    levels = np.asarray(case.trial.levels, dtype=float)
+    level_kg = np.maximum(np.round(levels * charge_kg / increment), 1.0) * increment
+    kg_all = np.concatenate([[charge_kg], level_kg])
+    mol_all = kg_all * _f(inputs.active_fraction) / _f(inputs.molar_mass)
+    fwd = model.solve(inputs, dose_mol=mol_all)
+    st = fwd.state
+    split0 = {k: _f(np.asarray(v)[0]) for k, v in model.split_by_phase(fwd).items()}
+    total0 = _f(st.total_mol[0])
+    rec = Recommendation(
+        kg_product_per_batch=_f(fwd.kg_product[0]), kg_active_per_batch=_f(fwd.kg_active[0]),
+        mol_per_batch=_f(fwd.dose_mol[0]), wt_percent=_f(np.asarray(fwd.wt_percent)[0]),
+        wt_percent_active=_f(np.asarray(fwd.wt_percent_active)[0]), g_per_l=_f(np.asarray(fwd.g_per_l)[0]),
+        percent_on_dispersed=_f(np.asarray(fwd.percent_on_dispersed)[0]),
+        mg_per_m2=_f(np.asarray(fwd.mg_per_m2)[0]), cost_per_batch=_f(np.asarray(fwd.cost)[0]),
+        currency=case.surfactant.currency, margin=margin, increment_kg=float(increment),
+        increment_source=inc_source, basis="target" if feasible else "cmc_ceiling",
+        reaches_target=feasible, base_kg_product=base_kg,
+        coverage_at_charge=_f(st.coverage[0]), free_concentration_at_charge=_f(st.free_concentration[0]),
+        tension_at_charge=_f(np.asarray(fwd.tension)[0]),
+        micelle_share_at_charge=_f(st.micelle_mol[0]) / total0 if total0 > 0 else 0.0,
+        split_mol_at_charge=split0,
+    )
+    trial = _level_rows(case, fwd, levels, charge_kg, increment)
+
+    # dose -> coverage curve: one forward solve
+    top = max(2.0 * charge_kg, 1.3 * ceiling_kg if math.isfinite(ceiling_kg) else 0.0, 1.3 * level_kg.max())
+    dose_kg = np.linspace(0.0, top, curve_points)
+    curve = model.solve(inputs, dose_mol=dose_kg * _f(inputs.active_fraction) / _f(inputs.molar_mass))
+    # dose against d32: one target solve over an array of d32 (or of the ceiling when unreachable)
+    d32 = _f(inputs.d32) * np.logspace(-np.log10(4.0), np.log10(4.0), d32_points)
+    what_if = inputs.with_values(d32=d32)
+    if not feasible:
+        what_if = what_if.with_values(target_kind="free_concentration", target_value=cmc)
+    d32_sol = model.solve(what_if)
+    d32_dose = np.asarray(d32_sol.kg_product, dtype=float)
+    curves = Curves(
+        dose_kg_product=dose_kg, coverage=np.asarray(curve.state.coverage, dtype=float),
+        free_concentration=np.asarray(curve.state.free_concentration, dtype=float),
+        ceiling_kg_product=ceiling_kg, d32=d32, d32_dose_kg_product=d32_dose,
+        d32_charge_kg_product=np.asarray(charge_for_dose(d32_dose, margin, increment)),
+    )
+    opts = () if feasible else options_when_unreachable(case, inputs, _f(target_sol.max_coverage))
+    return Plan(
+        case=case, inputs=inputs, solution=target_sol, solve_json=solve_json, feasible=feasible,
+        target_coverage=_f(target_theta), recommendation=rec, trial=trial, curves=curves,
+        assumptions=assumptions(case, inputs), model_assumptions=MODEL_ASSUMPTIONS, cautions=CAUTIONS,
+        options=opts, case_notes=case_notes(source), source=str(source) if source is not None else "",
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# result.json and trial_plan.csv
+
+
+def _num(x):
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def recommendation_json(rec: Recommendation) -> dict:
+    """Return the ``recommendation`` object of result.json (SI, kg, %; null where unknown)."""
+    return {
+        "kg_product_per_batch": _num(rec.kg_product_per_batch),
+        "kg_active_per_batch": _num(rec.kg_active_per_batch),
+        "mol_per_batch": _num(rec.mol_per_batch),
+        "wt_percent": _num(rec.wt_percent), "wt_percent_active": _num(rec.wt_percent_active),
+        "g_per_l": _num(rec.g_per_l), "percent_on_dispersed": _num(rec.percent_on_dispersed),
+        "mg_per_m2": _num(rec.mg_per_m2), "cost_per_batch": _num(rec.cost_per_batch),
+        "currency": rec.currency, "margin": rec.margin, "increment_kg": rec.increment_kg,
+        "increment_source": rec.increment_source, "basis": rec.basis, "reaches_target": rec.reaches_target,
+        "base_kg_product": _num(rec.base_kg_product),
+        "coverage_at_charge": _num(rec.coverage_at_charge),
+        "free_concentration_at_charge_mol_m3": _num(rec.free_concentration_at_charge),
+        "tension_at_charge_N_m": _num(rec.tension_at_charge),
+        "micelle_share_at_charge": _num(rec.micelle_share_at_charge),
+        "split_mol_at_charge": {k: _num(v) for k, v in rec.split_mol_at_charge.items()},
+    }
+
+
+def trial_json(trial) -> list[dict]:
+    """Return the ``trial`` list of result.json, one object per level."""
+    return [{
+        "level": t.level, "kg_product": _num(t.kg_product), "kg_active": _num(t.kg_active),
+        "mol": _num(t.mol), "wt_percent": _num(t.wt_percent), "coverage": _num(t.coverage),
+        "free_concentration_mol_m3": _num(t.free_concentration), "tension_N_m": _num(t.tension),
+        "micelle_share": _num(t.micelle_share), "batches": t.batches, "measure": list(t.measure),
+    } for t in trial]
+
+
+def plan_json(plan: Plan) -> dict:
+    """Return result.json: :func:`sizing.model.solution_json` keys plus the plan's own keys."""
+    out = dict(plan.solve_json)
+    out["recommendation"] = recommendation_json(plan.recommendation)
+    out["trial"] = trial_json(plan.trial)
+    out["target_coverage"] = _num(plan.target_coverage)
+    out["ceiling_kg_product"] = _num(plan.curves.ceiling_kg_product)
+    out["assumptions"] = [dict(a) for a in plan.assumptions] + [
+        {"path": None, "label": "model", "value": text, "source": "model"} for text in plan.model_assumptions]
+    out["cautions"] = list(plan.cautions)
+    if not plan.feasible:
+        out["options"] = list(plan.options)
+    for key, value in plan.extras.items():
+        if isinstance(value, dict) and "json" in value:
+            out[key] = value["json"]
+        elif isinstance(value, (dict, list, str, int, float, bool)) or value is None:
+            out[key] = value
+    return out
+
+
+TRIAL_COLUMNS = ("level [x charge]", "product [kg/batch]", "active [kg/batch]", "active [mol/batch]",
+                 "product [wt% of batch]", "coverage [-]", "free monomer [mM]", "tension [mN/m]",
+                 "micelle share [%]", "batches [-]", "measure")
+
+
+def trial_csv(plan: Plan) -> str:
+    """Return trial_plan.csv: one row a level, units in the header brackets."""
+    import csv
+    import io
+
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(TRIAL_COLUMNS)
+
+    def g(x, scale=1.0):
+        return "" if not math.isfinite(x) else f"{x * scale:.6g}"
+
+    for t in plan.trial:
+        w.writerow([f"{t.level:g}", g(t.kg_product), g(t.kg_active), g(t.mol), g(t.wt_percent),
+                    g(t.coverage), g(t.free_concentration), g(t.tension, 1e3), g(t.micelle_share, 100),
+                    t.batches, "; ".join(t.measure)])
+    return buf.getvalue()
