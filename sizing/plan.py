@@ -323,6 +323,10 @@ def assumptions(case, inputs: model.Inputs) -> list[dict]:
         if isinstance(raw, dict):
             raw = raw.get("value")
         text = str(raw)
+        if path == "surfactant.price_per_kg":
+            text += f" {case.surfactant.currency}/kg"
+        elif v.dimension == "dimensionless" and not isinstance(raw, str):
+            text += " (-)"
         if v.spread is not None:
             text += (f" (log-normal, rel. SD {v.spread[1]:g})" if v.spread[0] == "lognormal"
                      else " (uniform spread)")

@@ -276,6 +276,11 @@ def render_d32_chart(plan) -> str:
         ax.plot([d32_case * 1e6], [r.kg_product_per_batch], "D", color="#c0392b", ms=6,
                 label=f"this case: d32 {q(d32_case, 'um', scale=1e6)}")
         ax.set_xscale("log")
+        from matplotlib.ticker import LogLocator, NullFormatter, ScalarFormatter
+
+        ax.xaxis.set_major_locator(LogLocator(subs=(1.0, 2.0, 5.0)))
+        ax.xaxis.set_major_formatter(ScalarFormatter())
+        ax.xaxis.set_minor_formatter(NullFormatter())
         ax.set_xlabel("Sauter mean diameter d32 [um]")
         ax.set_ylabel("product per batch [kg]")
         ax.set_ylim(bottom=0)
@@ -298,10 +303,10 @@ def render_trial(plan) -> str:
     for t in plan.trial:
         rows.append((f"{t.level:g} x", q(t.kg_product, "kg"), q(t.kg_active, "kg"), q(t.wt_percent, "wt%"),
                      q(t.coverage, "(-)"), q(t.free_concentration, "mM"), q(t.tension, "mN/m", scale=1e3),
-                     q(100 * t.micelle_share, "%", 3), str(t.batches), "; ".join(t.measure)))
+                     q(100 * t.micelle_share, "%", 3), str(t.batches)))
     head = ("level [x charge]", "product [kg/batch]", "active [kg/batch]", "product [wt% of batch]",
             "expected coverage [-]", "free monomer [mM]", "tension [mN/m]", "micelles [% of dose]",
-            "batches", "measure")
+            "batches")
     total = sum(t.kg_product * t.batches for t in plan.trial)
     body = (table(rows, head, numeric_cols=(1, 2, 3, 4, 5, 6, 7, 8))
             + f"<p>{len(plan.trial)} levels, {sum(t.batches for t in plan.trial)} batches in all, "
@@ -309,6 +314,9 @@ def render_trial(plan) -> str:
               f"recommended charge, rounded to the nearest {esc(q(plan.recommendation.increment_kg, 'kg'))} step; "
               "coverage, free monomer, tension and micelles are the forward equilibrium for the amount "
               "charged.</p>")
+    body += "<p>What to measure at each level:</p><ul>" + "".join(
+        f"<li><b>{t.level:g} x ({esc(q(t.kg_product, 'kg'))})</b>: {esc('; '.join(t.measure))}</li>"
+        for t in plan.trial) + "</ul>"
     return section("trial", "Trial matrix", body)
 
 

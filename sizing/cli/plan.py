@@ -1,0 +1,128 @@
+"""``sizing plan [CASE] [--out DIR]``: the recommendation, the trial matrix and the report.
+
+Writes ``report.html``, ``result.json`` and ``trial_plan.csv`` into DIR (default
+``./<case-stem>_plan``).  Everything is computed in memory first, then written to a temporary
+folder beside DIR and moved in file by file with ``os.replace``, so a failed run leaves an
+earlier report untouched.  Without CASE the built-in demo (``sizing/data/demo.toml``) is planned.
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import tempfile
+from pathlib import Path
+
+from ..units import sig
+
+OUTPUTS = ("report.html", "result.json", "trial_plan.csv")
+
+
+def register(sub) -> None:
+    p = sub.add_parser("plan", help="recommended charge, trial matrix and an HTML report",
+                       description="Plan a case: the recommended charge per batch, the trial matrix, "
+                                   "and report.html, result.json and trial_plan.csv in DIR.")
+    p.add_argument("case", nargs="?", help="case file (TOML); omit to plan the built-in demo case")
+    p.add_argument("--out", metavar="DIR", help="output folder (default ./<case-name>_plan)")
+    p.add_argument("--json", action="store_true", help="also print result.json on stdout")
+    p.set_defaults(func=run)
+
+
+def demo_case_path():
+    """Return the path of the built-in demo case shipped inside the package."""
+    from importlib.resources import files
+
+    return files("sizing.data") / "demo.toml"
+
+
+def build_outputs(case, source) -> tuple[object, dict[str, str]]:
+    """Return ``(plan, {file name: text})`` for a validated case (nothing written)."""
+    from .. import report
+    from ..plan import build_plan, trial_csv
+    from .common import dumps
+
+    plan = build_plan(case, source)
+    files = {
+        "report.html": report.render(plan),
+        "result.json": dumps(plan.to_json()) + "\n",
+        "trial_plan.csv": trial_csv(plan),
+    }
+    return plan, files
+
+
+def write_outputs(out_dir: Path, files: dict[str, str]) -> list[Path]:
+    """Write the files through a temporary folder beside ``out_dir``, then move them in."""
+    out_dir = Path(out_dir)
+    out_dir.parent.mkdir(parents=True, exist_ok=True)
+    tmp = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.", suffix=".tmp"))
+    try:
+        for name, text in files.items():
+            with open(tmp / name, "w", encoding="utf-8", newline="") as fh:
+                fh.write(text)
+        out_dir.mkdir(parents=True, exist_ok=True)
+        written = []
+        for name in files:
+            os.replace(tmp / name, out_dir / name)
+            written.append(out_dir / name)
+        return written
+    finally:
+        shutil.rmtree(tmp, ignore_errors=True)
+
+
+def describe(plan) -> str:
+    """Return the terminal text of a plan: the recommendation with units and the trial levels."""
+    r = plan.recommendation
+
+    def u(x, unit, scale=1.0, digits=4):
+        import math
+
+        return "n/a" if x is None or not math.isfinite(x) else f"{sig(x * scale, digits)} {unit}"
+
+    lines = [plan.case.case.title, "-" * len(plan.case.case.title)]
+    if not plan.feasible:
+        lines += ["TARGET NOT REACHABLE at equilibrium: " + plan.solve_json.get("unreachable", ""),
+                  "  the charge below is built on the dose that reaches the CMC ceiling; options:"]
+        lines += [f"  - {o}" for o in plan.options]
+    lines += [
+        f"  recommended charge     {u(r.kg_product_per_batch, 'kg')} of {plan.case.surfactant.name} per batch",
+        f"  active                 {u(r.kg_active_per_batch, 'kg')} ({u(r.mol_per_batch, 'mol')})",
+        f"  built on               {u(r.base_kg_product, 'kg')} product"
+        f" {'for the target' if plan.feasible else 'at the CMC ceiling'}, margin {r.margin * 100:.3g} %, "
+        f"rounded up to {u(r.increment_kg, 'kg')}",
+        f"  of batch mass          {u(r.wt_percent, 'wt% (product)')}",
+        f"  on dispersed phase     {u(r.percent_on_dispersed, '% by mass (product)')}",
+        f"  cost per batch         {u(r.cost_per_batch, r.currency, digits=5)}",
+        f"  coverage at the charge {u(r.coverage_at_charge, '(-)')}, free monomer "
+        f"{u(r.free_concentration_at_charge, 'mM')}",
+        "",
+        "  trial levels: " + ", ".join(f"{t.level:g} x = {u(t.kg_product, 'kg')} (coverage {t.coverage:.3f})"
+                                       for t in plan.trial),
+    ]
+    return "\n".join(lines)
+
+
+def run(args) -> int:
+    from ..case import load_case
+    from .common import dumps
+
+    if args.case is None:
+        demo = demo_case_path()
+        from ..case import loads_case
+
+        source = Path(str(demo))
+        case = loads_case(demo.read_text(encoding="utf-8"), None, name="built-in demo case")
+        stem = "demo"
+    else:
+        source = Path(args.case)
+        case = load_case(source)
+        stem = source.stem
+    out_dir = Path(args.out) if args.out else Path.cwd() / f"{stem}_plan"
+    plan, files = build_outputs(case, source)
+    written = write_outputs(out_dir, files)
+    print(describe(plan))
+    print()
+    for p in written:
+        print(f"wrote {p}")
+    if args.json:
+        print(dumps(plan.to_json()))
+    return 0
