@@ -20,7 +20,7 @@ is within 2 of the lowest, and among models with as many parameters the lowest A
 References
 ----------
 1. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
-   Springer (2002): AICc and the "within 2 units" rule of thumb.
+   Springer (2002): AICc and the "within 2 units" rule of thumb [from memory].
 2. McClements, D. J., Food Emulsions, 2nd ed. (2005), ch. 5: Gibbs equation and prefactor n.
 """
 

@@ -106,7 +106,7 @@ def _tension_text(fit) -> str:
         tag = " (fixed)" if key == "clean_tension" and fit.clean_tension_fixed is not None else ""
         lines.append(f"{label:<24}{v:>22}   {lo} to {hi}{tag}")
         if fit.bootstrap and key in fit.bootstrap:
-            blo, bhi = (format_si(x, dim, unit, 3) for x in fit.bootstrap[key])
+            blo, bhi = (format_si(x, dim, unit, 4) for x in fit.bootstrap[key])
             lines.append(f"{'':<24}{'bootstrap':>22}   {blo} to {bhi}")
     a = float(area_from_surface_excess(b.params["max_surface_excess"]))
     alo, ahi = sorted(float(area_from_surface_excess(x)) for x in b.intervals["max_surface_excess"])
