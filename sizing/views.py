@@ -1,0 +1,260 @@
+"""Plain-data views of a case for charts and screens: curves, tables and explanations.
+
+Every function here takes a validated :class:`sizing.case.Case` (or the raw case dict), calls the
+orchestrating layer (:mod:`sizing.model`) and returns plain Python data (dicts of lists and
+floats, SI units unless a key says otherwise), so that a user interface can cache and draw it.
+No physics is added here: each curve is one vectorised :func:`sizing.model.solve` call.
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+from pathlib import Path
+
+import numpy as np
+
+from . import distribution
+from .errors import InputError
+from .model import case_inputs, solution_json, solve, split_by_phase, target_concentration
+
+# ---------------------------------------------------------------------------------------------
+# the built-in demo and a blank case
+
+_PACKAGE = Path(__file__).resolve().parent
+
+
+def demo_case_path() -> Path:
+    """Return the path of the built-in demo case.
+
+    The packaged ``sizing/data/demo.toml`` is used when present, else the repository's
+    ``cases_demo/lotion_o_w.toml`` (a source checkout).
+
+    Raises
+    ------
+    InputError
+        When neither file exists.
+    """
+    for p in (_PACKAGE / "data" / "demo.toml", _PACKAGE.parent / "cases_demo" / "lotion_o_w.toml"):
+        if p.is_file():
+            return p
+    raise InputError("demo case: not found in this installation (sizing/data/demo.toml)")
+
+
+def load_demo() -> tuple[dict, Path]:
+    """Return the demo case as a raw dict (unit strings as written) and its folder."""
+    import tomllib
+
+    path = demo_case_path()
+    return tomllib.loads(path.read_text(encoding="utf-8")), path.parent
+
+
+def blank_case() -> dict:
+    """Return a minimal starting case: every required key present, neutral values.
+
+    The values are placeholders for the engineer to replace (a 1 m**3 O/W batch, 2 um drops,
+    a generic nonionic surfactant); they validate so that every screen can draw.
+    """
+    return {
+        "case": {"title": "New case", "system": "emulsion", "continuous": "water"},
+        "batch": {"volume": "1 m**3", "dispersed_fraction": 0.2, "temperature": "25 degC",
+                  "continuous_density": "1000 kg/m**3", "dispersed_density": "900 kg/m**3"},
+        "drops": {"d32": "2 um"},
+        "surfactant": {"name": "surfactant", "molar_mass": "400 g/mol", "active_fraction": 1.0,
+                       "cmc": "0.1 mM", "isotherm": "langmuir", "max_surface_excess": "3 umol/m**2",
+                       "adsorption_constant": "100 m**3/mol", "gibbs_prefactor": 1,
+                       "partition_coefficient": 0.0},
+        "target": {"coverage": 0.8, "margin": 0.15},
+    }
+
+
+def problems_by_field(problems: list[str]) -> dict[str, list[str]]:
+    """Group ``"path: message"`` lines by their path (``"drops.d32"``, ``"drops"``, ...).
+
+    >>> problems_by_field(["drops.d32: expected a value > 0 m, got '-2 um'", "oops"])
+    {'drops.d32': ["expected a value > 0 m, got '-2 um'"], '': ['oops']}
+    >>> problems_by_field(["surfactant: isotherm: unknown isotherm 'x'"])
+    {'surfactant.isotherm': ["unknown isotherm 'x'"]}
+    """
+    out: dict[str, list[str]] = {}
+    for line in problems:
+        head, sep, tail = line.partition(": ")
+        if sep and head and " " not in head:
+            # a section-level check that names its key first: "surfactant: isotherm: unknown ..."
+            key, sep2, rest = tail.partition(": ")
+            if "." not in head and sep2 and key.isidentifier():
+                head, tail = f"{head}.{key}", rest
+            out.setdefault(head, []).append(tail)
+        else:
+            out.setdefault("", []).append(line)
+    return out
+
+
+# ---------------------------------------------------------------------------------------------
+# summaries
+
+
+def _f(x) -> float:
+    return float(np.asarray(x, dtype=float))
+
+
+def summary(case, d32: float | None = None) -> dict:
+    """Return the solve contract dict of the case (``d32`` [m] overrides the drop size)."""
+    overrides = {"drops.d32": d32} if d32 is not None else None
+    inputs = case_inputs(case, overrides)
+    return solution_json(solve(inputs), case)
+
+
+def unreachable_text(case) -> str | None:
+    """Explain in words why the target cannot be reached, or return None when it can.
+
+    The target fixes the free monomer concentration the continuous phase must hold; above the
+    CMC extra surfactant forms micelles and the free concentration no longer rises, so the
+    coverage stops at its value at the CMC.
+    """
+    inputs = case_inputs(case)
+    sol = solve(inputs)
+    if bool(np.all(sol.feasible)):
+        return None
+    c, theta = target_concentration(inputs)
+    kind = inputs.target_kind
+    what = {"coverage": f"a coverage of {_f(inputs.target_value):.3g}",
+            "tension": f"a tension of {_f(inputs.target_value) * 1e3:.3g} mN/m",
+            "free_concentration": f"a free concentration of {_f(inputs.target_value):.3g} mM"}[kind]
+    return (
+        f"The target ({what}) needs {_f(c):.3g} mM of free surfactant in the continuous phase "
+        f"(coverage {_f(theta):.3g}), but the CMC is {_f(inputs.cmc):.3g} mM. Surfactant added "
+        f"beyond the CMC forms micelles and the free concentration stops rising, so at equilibrium "
+        f"the coverage cannot exceed {_f(sol.max_coverage):.3g}, whatever the dose. Lower the "
+        f"target to at most that coverage, or choose a surfactant that adsorbs more strongly "
+        f"(a larger adsorption constant) or has a higher CMC."
+    )
+
+
+def dose_split(case, d32: float | None = None) -> list[dict]:
+    """Return where the dose goes: one row per place with mol, kg of active and per cent.
+
+    Rows are ``{"place", "mol", "kg_active", "percent"}``; the places are the continuous phase,
+    the dispersed phase, the interface and micelles (named by phase, e.g. ``"water"``).
+    """
+    overrides = {"drops.d32": d32} if d32 is not None else None
+    inputs = case_inputs(case, overrides)
+    sol = solve(inputs)
+    split = split_by_phase(sol)
+    total = sum(_f(v) for v in split.values()) or 1.0
+    mm = _f(inputs.molar_mass)
+    rows = []
+    for place, mol in split.items():
+        if inputs.system == "foam" and place == "oil":
+            continue
+        m = _f(mol)
+        rows.append({"place": place, "mol": m, "kg_active": m * mm, "percent": 100.0 * m / total})
+    return rows
+
+
+# ---------------------------------------------------------------------------------------------
+# curves (one vectorised solve each)
+
+
+def dose_vs_coverage(case, points: int = 60) -> dict:
+    """Return the dose needed for each coverage up to the CMC ceiling (one vectorised solve).
+
+    Returns
+    -------
+    dict
+        ``coverage`` [-], ``kg_product``, ``kg_active`` [kg] (lists), the case's ``target_coverage``
+        (its target expressed as a coverage, or None when unreachable), ``max_coverage`` (the CMC
+        ceiling [-]) and ``target_kg_product`` [kg] (None when unreachable).
+    """
+    inputs = case_inputs(case)
+    base = solve(inputs)
+    theta_max = _f(base.max_coverage)
+    top = min(theta_max, 0.995)
+    grid = np.linspace(0.01, top, points)
+    sol = solve(inputs.with_values(target_kind="coverage", target_value=grid))
+    feasible = bool(np.all(base.feasible))
+    _, theta_t = target_concentration(inputs)
+    return {
+        "coverage": grid.tolist(),
+        "kg_product": np.asarray(sol.kg_product, dtype=float).tolist(),
+        "kg_active": np.asarray(sol.kg_active, dtype=float).tolist(),
+        "target_coverage": _f(theta_t) if math.isfinite(_f(theta_t)) else None,
+        "target_feasible": feasible,
+        "max_coverage": theta_max,
+        "target_kg_product": _f(base.kg_product) if feasible else None,
+    }
+
+
+def d32_range(case) -> tuple[float, float]:
+    """Return a what-if range of d32 [m] around the case's own: a fifth to five times."""
+    d32 = _f(case_inputs(case).d32)
+    return d32 / 5.0, d32 * 5.0
+
+
+def dose_vs_d32(case, points: int = 60, low: float | None = None, high: float | None = None) -> dict:
+    """Return the dose for the case's target against d32 on a log grid (one vectorised solve).
+
+    Returns
+    -------
+    dict
+        ``d32_m`` [m] and ``kg_product`` [kg] (lists; nan where the target is unreachable),
+        ``case_d32_m`` [m] and ``feasible`` (bool list).
+    """
+    inputs = case_inputs(case)
+    lo, hi = d32_range(case)
+    lo = lo if low is None else low
+    hi = hi if high is None else high
+    grid = np.geomspace(lo, hi, points)
+    sol = solve(inputs.with_values(d32=grid))
+    return {
+        "d32_m": grid.tolist(),
+        "kg_product": np.asarray(sol.kg_product, dtype=float).tolist(),
+        "feasible": np.asarray(sol.feasible, dtype=bool).tolist(),
+        "case_d32_m": _f(inputs.d32),
+    }
+
+
+def size_curve(case, points: int = 200) -> dict | None:
+    """Return the volume density against log size of the case's drop description, for a plot.
+
+    Returns
+    -------
+    dict or None
+        ``d_m`` [m] and ``q3`` (volume fraction per unit ln d [-]) as lists, ``d32_m``,
+        ``dv50_m`` [m] (dv50 None when unknown) and ``kind``; None when only d32 is given.
+    """
+    d = case.drops
+    values = case.values()
+    inputs = case_inputs(case)
+    stats = inputs.size_stats
+    if d.distribution == "lognormal":
+        gsd = values["drops.gsd"]
+        centre = _f(stats.dv50)
+        grid = np.geomspace(centre / gsd**4, centre * gsd**4, points)
+        q3 = distribution.lognormal_volume_density(values["drops.median"], gsd, d.basis, grid)
+    elif d.distribution == "rrsb":
+        x, n = values["drops.characteristic_size"], values["drops.spread"]
+        grid = np.geomspace(x * 0.01 ** (1 / n) / 3, x * 5.0 ** (1 / n) * 1.5, points)
+        q3 = distribution.rrsb_volume_density(x, n, grid)
+    elif d.distribution == "table":
+        table = distribution.read_size_table(distribution.table_path(d.file, case.base_dir))
+        # a step per class: uniform volume density in ln d inside each class
+        width = np.log(table.upper / table.lower)
+        level = table.volume_fraction / width
+        grid = np.column_stack([table.lower, table.upper]).ravel()
+        q3 = np.repeat(level, 2)
+    else:
+        return None
+    dv50 = _f(stats.dv50)
+    return {
+        "d_m": np.asarray(grid, dtype=float).tolist(),
+        "q3": np.asarray(q3, dtype=float).tolist(),
+        "d32_m": _f(stats.d32),
+        "dv50_m": dv50 if math.isfinite(dv50) else None,
+        "kind": d.distribution,
+    }
+
+
+def case_copy(data: dict) -> dict:
+    """Return a deep copy of a raw case dict (for editing without touching the original)."""
+    return copy.deepcopy(data)

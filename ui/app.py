@@ -1,0 +1,28 @@
+"""The workbench entry: ``sizing app`` runs ``streamlit run`` on this file."""
+
+import sys
+from pathlib import Path
+
+import streamlit as st
+
+if __package__ in (None, "") and str(Path(__file__).resolve().parents[1]) not in sys.path:
+    sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # a source checkout
+
+from ui import state  # noqa: E402
+
+st.set_page_config(page_title="sizing workbench", page_icon=":material/bubble_chart:", layout="wide")
+
+HERE = Path(__file__).resolve().parent / "pages"
+pages = [
+    st.Page(str(HERE / "case.py"), title="Case", icon=":material/description:", default=True, url_path="case"),
+    st.Page(str(HERE / "drops.py"), title="Drops and bubbles", icon=":material/bubble_chart:", url_path="drops"),
+    st.Page(str(HERE / "surfactant.py"), title="Surfactant", icon=":material/science:", url_path="surfactant"),
+    st.Page(str(HERE / "dose.py"), title="Dose balance", icon=":material/balance:", url_path="dose"),
+    st.Page(str(HERE / "scaleup.py"), title="Scale-up and uncertainty", icon=":material/trending_up:",
+            url_path="scaleup"),
+    st.Page(str(HERE / "plan.py"), title="Plan", icon=":material/assignment:", url_path="plan"),
+]
+page = st.navigation(pages)
+state.ensure_case()
+state.sidebar_status()
+page.run()

@@ -1,0 +1,145 @@
+"""Altair charts and number formatting for the workbench (drawing only; data come from sizing.views)."""
+
+from __future__ import annotations
+
+import math
+
+import altair as alt
+import pandas as pd
+
+from sizing.units import sig
+
+UM = 1e6  # m -> um for display
+MN = 1e3  # N/m -> mN/m for display
+
+
+def num(x, unit: str = "", digits: int = 3) -> str:
+    """Return ``x`` with ``digits`` significant figures and its unit; 'n/a' for None or nan."""
+    if x is None or (isinstance(x, float) and not math.isfinite(x)):
+        return "n/a"
+    return f"{sig(x, digits)} {unit}".strip()
+
+
+def _rule(value: float, label: str, color: str, axis: str = "x") -> alt.LayerChart:
+    df = pd.DataFrame({"v": [value], "label": [label]})
+    enc = {axis: alt.X("v:Q") if axis == "x" else alt.Y("v:Q")}
+    line = alt.Chart(df).mark_rule(color=color, strokeDash=[6, 4], size=2).encode(
+        **enc, tooltip=[alt.Tooltip("label:N", title="marker"), alt.Tooltip("v:Q", title="value", format=".3g")])
+    text = alt.Chart(df).mark_text(align="left", dx=4, dy=-6, color=color, fontSize=11).encode(
+        **enc, text="label:N", **({"y": alt.value(12)} if axis == "x" else {"x": alt.value(4)}))
+    return line + text
+
+
+def size_distribution(curve: dict) -> alt.LayerChart:
+    """Volume density against log size with d32 and dv50 marked."""
+    df = pd.DataFrame({"d_um": [d * UM for d in curve["d_m"]], "q3": curve["q3"]})
+    base = alt.Chart(df).mark_area(
+        line={"color": "#1f5f8b"}, color="#9ecae1", opacity=0.6,
+        interpolate="step-after" if curve["kind"] == "table" else "monotone",
+    ).encode(
+        x=alt.X("d_um:Q", scale=alt.Scale(type="log"), title="drop or bubble diameter d [um]"),
+        y=alt.Y("q3:Q", title="volume density q3 per unit ln d [-]"),
+        tooltip=[alt.Tooltip("d_um:Q", title="d [um]", format=".3g"),
+                 alt.Tooltip("q3:Q", title="q3 [-]", format=".3g")],
+    )
+    layers = base + _rule(curve["d32_m"] * UM, f"d32 = {sig(curve['d32_m'] * UM, 3)} um", "#d62728")
+    if curve.get("dv50_m"):
+        layers = layers + _rule(curve["dv50_m"] * UM, f"dv50 = {sig(curve['dv50_m'] * UM, 3)} um", "#2ca02c")
+    return layers.properties(height=300)
+
+
+def dose_split(rows: list[dict]) -> alt.Chart:
+    """Horizontal bars: where the dose goes, in kg of active and per cent."""
+    df = pd.DataFrame(rows)
+    return alt.Chart(df).mark_bar(color="#1f5f8b").encode(
+        y=alt.Y("place:N", title=None, sort=None),
+        x=alt.X("kg_active:Q", title="active surfactant per batch [kg]"),
+        tooltip=[alt.Tooltip("place:N", title="where"),
+                 alt.Tooltip("kg_active:Q", title="active [kg]", format=".3g"),
+                 alt.Tooltip("mol:Q", title="amount [mol]", format=".3g"),
+                 alt.Tooltip("percent:Q", title="share [%]", format=".1f")],
+    ).properties(height=170)
+
+
+def dose_vs_coverage(curve: dict) -> alt.LayerChart:
+    """Dose of product against coverage, with the target and the CMC ceiling marked."""
+    df = pd.DataFrame({"coverage": curve["coverage"], "kg_product": curve["kg_product"]})
+    line = alt.Chart(df).mark_line(color="#1f5f8b", strokeWidth=2).encode(
+        x=alt.X("coverage:Q", title="coverage theta = Gamma/Gamma_inf [-]", scale=alt.Scale(domain=[0, 1])),
+        y=alt.Y("kg_product:Q", title="dose of product per batch [kg]"),
+        tooltip=[alt.Tooltip("coverage:Q", title="coverage [-]", format=".3f"),
+                 alt.Tooltip("kg_product:Q", title="product [kg]", format=".4g")],
+    )
+    layers = line + _rule(curve["max_coverage"], f"CMC ceiling {curve['max_coverage']:.3f}", "#d62728")
+    if curve.get("target_coverage") is not None:
+        layers = layers + _rule(curve["target_coverage"], f"target {curve['target_coverage']:.3f}", "#2ca02c")
+        if curve.get("target_kg_product") is not None:
+            pt = pd.DataFrame({"coverage": [curve["target_coverage"]], "kg_product": [curve["target_kg_product"]]})
+            layers = layers + alt.Chart(pt).mark_point(color="#2ca02c", size=90, filled=True).encode(
+                x="coverage:Q", y="kg_product:Q",
+                tooltip=[alt.Tooltip("kg_product:Q", title="dose for the target [kg]", format=".4g")])
+    return layers.properties(height=320)
+
+
+def dose_vs_d32(curve: dict, whatif_d32: float | None = None, whatif_kg: float | None = None) -> alt.LayerChart:
+    """Dose of product for the target against d32 (log axis), the case and the what-if marked."""
+    df = pd.DataFrame({"d32_um": [d * UM for d in curve["d32_m"]], "kg_product": curve["kg_product"]})
+    df = df[df["kg_product"].notna()]
+    line = alt.Chart(df).mark_line(color="#1f5f8b", strokeWidth=2).encode(
+        x=alt.X("d32_um:Q", scale=alt.Scale(type="log"), title="Sauter mean diameter d32 [um]"),
+        y=alt.Y("kg_product:Q", scale=alt.Scale(type="log"), title="dose of product per batch [kg]"),
+        tooltip=[alt.Tooltip("d32_um:Q", title="d32 [um]", format=".3g"),
+                 alt.Tooltip("kg_product:Q", title="product [kg]", format=".4g")],
+    )
+    layers = line + _rule(curve["case_d32_m"] * UM, f"case {sig(curve['case_d32_m'] * UM, 3)} um", "#555555")
+    if whatif_d32 is not None and whatif_kg is not None and math.isfinite(whatif_kg):
+        pt = pd.DataFrame({"d32_um": [whatif_d32 * UM], "kg_product": [whatif_kg]})
+        layers = layers + alt.Chart(pt).mark_point(color="#ff7f0e", size=120, filled=True).encode(
+            x="d32_um:Q", y="kg_product:Q",
+            tooltip=[alt.Tooltip("d32_um:Q", title="what-if d32 [um]", format=".3g"),
+                     alt.Tooltip("kg_product:Q", title="product [kg]", format=".4g")])
+    return layers.properties(height=320)
+
+
+def points_and_curve(points: pd.DataFrame, curve: pd.DataFrame, x: str, y: str, x_title: str, y_title: str,
+                     log_x: bool = True) -> alt.LayerChart:
+    """Measured points with a fitted curve (x on a log axis by default)."""
+    xs = alt.Scale(type="log") if log_x else alt.Scale()
+    pts = alt.Chart(points).mark_point(filled=True, size=50, color="#1f5f8b").encode(
+        x=alt.X(f"{x}:Q", scale=xs, title=x_title), y=alt.Y(f"{y}:Q", title=y_title, scale=alt.Scale(zero=False)),
+        tooltip=[alt.Tooltip(f"{x}:Q", format=".4g"), alt.Tooltip(f"{y}:Q", format=".4g")])
+    line = alt.Chart(curve).mark_line(color="#d62728").encode(x=f"{x}:Q", y=f"{y}:Q")
+    return (pts + line).properties(height=300)
+
+
+def residuals(df: pd.DataFrame, x: str, y: str, x_title: str, y_title: str, log_x: bool = True) -> alt.LayerChart:
+    """Residuals against x with a zero line."""
+    xs = alt.Scale(type="log") if log_x else alt.Scale()
+    pts = alt.Chart(df).mark_point(filled=True, color="#1f5f8b").encode(
+        x=alt.X(f"{x}:Q", scale=xs, title=x_title), y=alt.Y(f"{y}:Q", title=y_title),
+        tooltip=[alt.Tooltip(f"{x}:Q", format=".4g"), alt.Tooltip(f"{y}:Q", format=".3g")])
+    zero = alt.Chart(pd.DataFrame({"z": [0.0]})).mark_rule(color="#888888").encode(y="z:Q")
+    return (pts + zero).properties(height=160)
+
+
+def histogram(values, title: str, markers: dict[str, float]) -> alt.LayerChart:
+    """Histogram of Monte Carlo samples with percentile markers."""
+    df = pd.DataFrame({"v": values})
+    bars = alt.Chart(df).mark_bar(color="#9ecae1").encode(
+        x=alt.X("v:Q", bin=alt.Bin(maxbins=50), title=title),
+        y=alt.Y("count():Q", title="samples"),
+        tooltip=[alt.Tooltip("count():Q", title="samples")])
+    layers = bars
+    colors = ["#2ca02c", "#d62728", "#2ca02c", "#555555"]
+    for i, (label, v) in enumerate(markers.items()):
+        layers = layers + _rule(v, f"{label} {sig(v, 3)}", colors[i % len(colors)])
+    return layers.properties(height=280)
+
+
+def tornado(rows: list[dict], x_title: str) -> alt.Chart:
+    """Tornado bars: rows ``{"input", "low", "high"}`` as the change of the output."""
+    df = pd.DataFrame(rows)
+    return alt.Chart(df).mark_bar(color="#1f5f8b").encode(
+        y=alt.Y("input:N", sort=None, title=None), x=alt.X("low:Q", title=x_title), x2="high:Q",
+        tooltip=[alt.Tooltip("input:N"), alt.Tooltip("low:Q", format=".3g"), alt.Tooltip("high:Q", format=".3g")],
+    ).properties(height=max(120, 28 * len(df)))

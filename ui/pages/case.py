@@ -1,0 +1,130 @@
+"""Case: start from the demo, an uploaded case file or blank; edit the batch, target and trial; save."""
+
+import re
+
+import streamlit as st
+
+from sizing import views
+from sizing.errors import InputError
+from ui import state
+from ui.state import field
+
+state.ensure_case()
+st.title("Case")
+st.caption("Build the case: every value carries its unit as text (for example '2.1 m**3', '60 degC'). "
+           "Checks are the same as the command line's; a problem shows under its field.")
+
+# ---- where the case comes from ---------------------------------------------------------------
+with st.container(border=True):
+    c1, c2, c3 = st.columns([1, 1, 2])
+    if c1.button("Load the demo case", key="btn_demo", icon=":material/science:"):
+        data, folder = views.load_demo()
+        state.set_case(data, "demo case", folder)
+        st.rerun()
+    if c2.button("Start a blank case", key="btn_blank", icon=":material/note_add:"):
+        state.set_case(views.blank_case(), "blank case")
+        st.rerun()
+    up = c3.file_uploader("Open a case file (.toml, at most 5 MB)", type=["toml"], key="up_case")
+    if state.new_upload(up, "case"):
+        try:
+            data = state.case_from_upload(up.name, up.getvalue())
+        except InputError as exc:
+            st.session_state["upload_error"] = str(exc)
+        else:
+            st.session_state.pop("upload_error", None)
+            state.set_case(data, f"uploaded {up.name}")
+            st.rerun()
+    if st.session_state.get("upload_error"):
+        st.error(st.session_state["upload_error"] + " — the case being edited is unchanged.",
+                 icon=":material/error:")
+    st.caption(f"Editing: **{st.session_state.get(state.SOURCE)}**")
+
+result = state.check()
+if result["by_field"].get(""):
+    for line in result["by_field"][""]:
+        st.error(line, icon=":material/error:")
+for section in ("case", "batch", "target", "trial", "uncertainty", "recommendation"):
+    state.show_errors(section)
+
+# ---- the case ----------------------------------------------------------------------------------
+left, mid, right = st.columns(3, gap="large")
+with left:
+    st.subheader("Case")
+    field("case.title", "Title", kind="text")
+    field("case.system", "System", kind="choice", options=["emulsion", "foam"])
+    if state.get("case.system") == "foam":
+        st.caption("A foam's continuous phase is water; the gas holds no surfactant.")
+    else:
+        field("case.continuous", "Continuous phase", kind="choice", options=["water", "oil"],
+              help="water: oil-in-water (O/W); oil: water-in-oil (W/O)")
+    field("case.notes", "Notes", kind="text", optional=True)
+
+with mid:
+    st.subheader("Batch")
+    by = "mass" if state.get("batch.mass") is not None else "volume"
+    choice = st.radio("Batch size given as", ["volume", "mass"], index=["volume", "mass"].index(by),
+                      key="sel_batch_size", horizontal=True)
+    if choice != by:
+        state.switch(["batch.volume", "batch.mass"], f"batch.{choice}",
+                     "2 m**3" if choice == "volume" else "2000 kg")
+        st.rerun()
+    if choice == "volume":
+        field("batch.volume", "Batch volume [volume, e.g. 2 m**3 or 500 L]")
+    else:
+        field("batch.mass", "Batch mass [mass, e.g. 2000 kg]")
+    field("batch.dispersed_fraction", "Dispersed volume fraction phi [-]", kind="number",
+          help="volume fraction of drops or bubbles, between 0 and 1")
+    field("batch.temperature", "Temperature [e.g. 25 degC or 298.15 K]")
+    field("batch.continuous_density", "Continuous-phase density [e.g. 997 kg/m**3]", optional=True,
+          help="optional; needed for wt% and mass outputs")
+    field("batch.dispersed_density", "Dispersed-phase density [e.g. 860 kg/m**3]", optional=True)
+
+with right:
+    st.subheader("Target")
+    kinds = {"coverage": "coverage [-]", "tension": "tension", "free_concentration": "free concentration"}
+    defaults = {"coverage": 0.8, "tension": "35 mN/m", "free_concentration": "0.5 mM"}
+    now = next((k for k in kinds if state.get(f"target.{k}") is not None), "coverage")
+    kind = st.selectbox("Target kind", list(kinds), index=list(kinds).index(now),
+                        format_func=kinds.get, key="sel_target_kind")
+    if kind != now:
+        state.switch([f"target.{k}" for k in kinds], f"target.{kind}", defaults[kind])
+        st.rerun()
+    if kind == "coverage":
+        field("target.coverage", "Target coverage theta [-]", kind="number",
+              help="fraction of the saturated surface excess, between 0 and 1")
+    elif kind == "tension":
+        field("target.tension", "Target tension [e.g. 35 mN/m]")
+    else:
+        field("target.free_concentration", "Target free monomer concentration [e.g. 0.5 mM]")
+    field("target.margin", "Safety margin on the dose [-]", kind="number", help="0.15 = 15 % more than the balance")
+
+    st.subheader("Recommendation and trial")
+    field("recommendation.increment", "Round the charge up to [mass, e.g. 0.5 kg]", optional=True)
+    field("trial.levels", "Trial levels [multiples of the recommended dose]", kind="list",
+          placeholder="0.8, 1.0, 1.25", optional=True)
+    field("trial.batches_per_level", "Batches per level [-]", kind="number", optional=True)
+
+with st.expander("Uncertainty (Monte Carlo settings)", expanded=False):
+    u1, u2, u3 = st.columns(3)
+    field("uncertainty.samples", "Samples [-]", kind="number", optional=True, placeholder="100000", where=u1)
+    field("uncertainty.seed", "Seed [-]", kind="number", optional=True, placeholder="20261201", where=u2)
+    field("uncertainty.percentile", "Percentile for the charge [%]", kind="number", optional=True,
+          placeholder="90", where=u3)
+    st.caption("Spreads of single values are written in the case file as "
+               "`{ value = \"2.4 um\", rel_sd = 0.15 }` or `{ value = ..., low = ..., high = ... }`; "
+               "fields holding a spread show it beside their label.")
+
+# ---- save ----------------------------------------------------------------------------------
+st.divider()
+result = state.check()
+s1, s2 = st.columns([1, 3])
+slug = re.sub(r"[^a-z0-9]+", "_", str(state.get("case.title") or "case").lower()).strip("_") or "case"
+s1.download_button("Save the case as TOML", data=result["toml"], file_name=f"{slug}.toml",
+                   mime="application/toml", key="dl_case_toml", icon=":material/download:")
+if result["problems"]:
+    s2.warning(f"The case has {len(result['problems'])} problem(s); the saved file will be refused by "
+               "the command line until they are fixed.", icon=":material/warning:")
+else:
+    s2.success("The case is valid; `sizing solve CASE.toml` accepts the saved file.", icon=":material/check:")
+with st.expander("Case file preview (TOML)"):
+    st.code(result["toml"], language="toml")

@@ -1,0 +1,96 @@
+"""Dose balance: the dose for the target, where it goes, and how it moves with coverage and d32."""
+
+import math
+
+import numpy as np
+import streamlit as st
+
+from ui import charts, state
+from ui.charts import MN, UM, num
+
+state.ensure_case()
+st.title("Dose balance")
+result = state.needs_valid_case()
+s = result["summary"]
+case = result["case"]
+target = s["target"]
+currency = case.surfactant.currency
+
+# ---- target and result ---------------------------------------------------------------------
+target_text = {
+    "coverage": f"coverage {num(target['value_si'], '', 3)}",
+    "tension": f"tension {num(target['value_si'] * MN, 'mN/m')}",
+    "free_concentration": f"free concentration {num(target['value_si'], 'mM')}",
+}[target["kind"]]
+st.caption(f"Target: **{target_text}** · d32 {num(s['d32_m'] * UM, 'um')} · "
+           f"area {num(s['interfacial_area_m2'], 'm²')} · safety margin {num(target['margin'] * 100, '%', 3)} "
+           "(applied on the Plan page)")
+
+if not s["feasible"]:
+    st.warning("**The target is not reachable at equilibrium.** " + state.view("unreachable_text"),
+               icon=":material/block:")
+    dose = None
+else:
+    dose = s["dose"]
+    with st.container(border=True):
+        m = st.columns(4)
+        m[0].metric("Product as delivered", num(dose["kg_product"], "kg"), help="per batch, before the margin")
+        m[1].metric("Active", num(dose["kg_active"], "kg"), help=f"{num(dose['mol'], 'mol')} per batch")
+        m[2].metric("Of batch mass", num(dose["wt_percent"], "wt%"), help="product as delivered")
+        m[3].metric("Per litre of batch", num(dose["g_per_l"], "g/L"), help="product as delivered")
+        m = st.columns(4)
+        m[0].metric("Per interfacial area", num(dose["mg_per_m2"], "mg/m²"), help="active")
+        m[1].metric("On dispersed phase", num(dose.get("percent_on_dispersed"), "% by mass"), help="product")
+        m[2].metric("Cost per batch", num(dose.get("cost"), currency))
+        m[3].metric("Largest coverage (CMC)", num(s["max_coverage"], ""))
+
+st_ = s["state"]
+m = st.columns(4)
+m[0].metric("Free monomer", num(st_["free_concentration_mol_m3"], "mM"))
+m[1].metric("Coverage", num(st_["coverage"], ""))
+m[2].metric("Surface excess", num(st_["surface_excess_mol_m2"] * 1e6, "µmol/m²"))
+m[3].metric("Tension", num(st_["tension_N_m"] and st_["tension_N_m"] * MN, "mN/m"))
+if st_["at_cmc_ceiling"]:
+    st.caption("The state shown is at the CMC ceiling.")
+
+# ---- where the dose goes, dose against coverage ----------------------------------------------
+left, right = st.columns(2, gap="large")
+with left:
+    st.subheader("Where the dose goes")
+    rows = state.view("dose_split")
+    st.altair_chart(charts.dose_split(rows), width="stretch", key="chart_split")
+    st.dataframe(
+        [{"where": r["place"], "active [kg]": num(r["kg_active"], "", 4), "amount [mol]": num(r["mol"], "", 4),
+          "share [%]": f"{r['percent']:.1f}"} for r in rows],
+        hide_index=True, width="stretch", key="table_split")
+with right:
+    st.subheader("Dose against coverage")
+    st.altair_chart(charts.dose_vs_coverage(state.view("dose_vs_coverage")), width="stretch", key="chart_cov")
+    st.caption("Above the CMC ceiling no dose raises the coverage: extra surfactant forms micelles.")
+
+# ---- dose against d32 with a what-if slider -------------------------------------------------
+st.subheader("Dose against d32 (what if the drops come out different)")
+curve = state.view("dose_vs_d32")
+grid = np.geomspace(curve["d32_m"][0], curve["d32_m"][-1], 41)
+options = sorted({float(f"{d * UM:.3g}") for d in grid} | {float(f"{s['d32_m'] * UM:.4g}")})
+default = float(f"{s['d32_m'] * UM:.4g}")
+if st.session_state.get("whatif_d32") not in options:
+    st.session_state["whatif_d32"] = default
+c1, c2 = st.columns([2, 1], gap="large")
+with c2:
+    pick = st.select_slider("What-if d32 [um]", options=options, key="whatif_d32",
+                            format_func=lambda v: f"{v:g}")
+    what = state.view("summary", d32=pick / UM)
+    if what["feasible"]:
+        kg = what["dose"]["kg_product"]
+        delta = None if dose is None else f"{kg - dose['kg_product']:+.3g} kg against the case"
+        st.metric(f"Product at d32 = {pick:g} um", num(kg, "kg"), delta=delta, delta_color="inverse")
+        st.caption(f"area {num(what['interfacial_area_m2'], 'm²')}, {num(what['dose']['wt_percent'], 'wt%')} "
+                   "of the batch")
+    else:
+        kg = math.nan
+        st.metric(f"Product at d32 = {pick:g} um", "not reachable")
+with c1:
+    st.altair_chart(charts.dose_vs_d32(curve, pick / UM, kg), width="stretch", key="chart_d32")
+st.caption("Smaller drops mean more interface to cover: the dose climbs towards the interface term as d32 "
+           "falls. Equilibrium estimate; confirm by trial.")

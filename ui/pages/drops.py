@@ -1,0 +1,101 @@
+"""Drops and bubbles: the size description or a measured size table, its plot and the area."""
+
+import streamlit as st
+
+from sizing.distribution import read_size_table
+from sizing.errors import InputError
+from ui import charts, state
+from ui.charts import UM, num
+from ui.state import field
+
+state.ensure_case()
+st.title("Drops and bubbles")
+st.caption("Describe the drop (or bubble) sizes the homogeniser gives: d32 directly, a log-normal or RRSB "
+           "distribution, or a measured table of size classes.")
+
+DESCRIPTIONS = {"d32": "d32 given directly", "lognormal": "log-normal", "rrsb": "RRSB (Rosin-Rammler)",
+                "table": "measured size table (CSV)"}
+DEFAULTS = {"lognormal": {"median": "1.5 um", "gsd": 1.6, "basis": "number"},
+            "rrsb": {"characteristic_size": "3 um", "spread": 2.0}, "table": {}}
+KEYS = ("d32", "distribution", "median", "gsd", "basis", "characteristic_size", "spread", "file")
+
+now = state.get("drops.distribution") or "d32"
+left, right = st.columns([1, 2], gap="large")
+with left:
+    kind = st.selectbox("Size description", list(DESCRIPTIONS), index=list(DESCRIPTIONS).index(now),
+                        format_func=DESCRIPTIONS.get, key="sel_drops_kind")
+    if kind != now:
+        stash = st.session_state.setdefault(state.STASH, {})
+        drops = state.ensure_case().setdefault("drops", {})
+        stash[f"drops:{now}"] = {k: drops.pop(k) for k in KEYS if k in drops}
+        restored = stash.pop(f"drops:{kind}", None)
+        if restored is None:
+            restored = {"d32": "2 um"} if kind == "d32" else {"distribution": kind, **DEFAULTS[kind]}
+        drops.update(restored)
+        for k in KEYS:
+            st.session_state.pop(state.PREFIX + f"drops.{k}", None)
+        st.rerun()
+    state.show_errors("drops")
+    if kind == "d32":
+        field("drops.d32", "Sauter mean diameter d32 [length, e.g. 2.4 um]")
+    elif kind == "lognormal":
+        field("drops.median", "Median diameter [length, e.g. 1.5 um]")
+        field("drops.gsd", "Geometric standard deviation [-] (> 1)", kind="number")
+        field("drops.basis", "Basis of the median", kind="choice", options=["number", "volume"],
+              help="number: count median diameter; volume: volume (mass) median diameter")
+    elif kind == "rrsb":
+        field("drops.characteristic_size", "Characteristic size d' (63.2 % by volume) [length]")
+        field("drops.spread", "Spread n [-] (> 1)", kind="number")
+    else:
+        up = st.file_uploader("Size table (CSV, at most 5 MB): e.g. 'upper [um],volume [%]' or "
+                              "'size [um],undersize [%]'", type=["csv"], key="up_sizes")
+        if state.new_upload(up, "sizes"):
+            try:
+                text = state.check_upload(up.name, up.getvalue(), (".csv",), "drops.file")
+                name = state.save_upload(up.name, text, read_size_table)
+            except InputError as exc:
+                st.session_state["sizes_error"] = str(exc)
+            else:
+                st.session_state.pop("sizes_error", None)
+                state.put("drops.file", name)
+                st.session_state.pop(state.PREFIX + "drops.file", None)
+                st.rerun()
+        if st.session_state.get("sizes_error"):
+            st.error(st.session_state["sizes_error"] + " — the table in use is unchanged.",
+                     icon=":material/error:")
+        field("drops.file", "Size table file (relative to the case file)", kind="text")
+    field("drops.shape_factor", "Shape factor s [-] (1 spheres; kelvin, weaire_phelan for dry foam)",
+          kind="number", optional=True)
+
+result = state.check()
+with right:
+    if result["case"] is None:
+        st.info("Fix the problems in the case to see the distribution and the area.", icon=":material/info:")
+        st.stop()
+    s = result["summary"]
+    size = s["size_m"]
+    m = st.columns(5)
+    m[0].metric("d32", num(s["d32_m"] * UM, "um"))
+    m[1].metric("dv50", num(size.get("dv50") and size["dv50"] * UM, "um"))
+    m[2].metric("d43", num(size.get("d43") and size["d43"] * UM, "um"))
+    m[3].metric("d10", num(size.get("d10") and size["d10"] * UM, "um"))
+    m[4].metric("span (dv90-dv10)/dv50", num(size.get("span"), ""))
+    try:
+        curve = state.view("size_curve")
+    except InputError as exc:
+        st.error(str(exc), icon=":material/error:")
+        curve = None
+    if curve is None:
+        st.info("d32 is given directly: there is no distribution to plot. Choose a log-normal, RRSB or "
+                "measured description to see one.", icon=":material/info:")
+    else:
+        st.altair_chart(charts.size_distribution(curve), width="stretch", key="chart_sizes")
+    a = s["area"]
+    st.subheader("Interfacial area")
+    m = st.columns(4)
+    m[0].metric("per batch", num(a["per_batch_m2"], "m²"))
+    m[1].metric("per m³ of dispersion", num(a["per_m3_dispersion_m2_m3"], "m²/m³"))
+    m[2].metric("per m³ of continuous phase", num(a["per_m3_continuous_m2_m3"], "m²/m³"))
+    m[3].metric("per kg of dispersed phase", num(a.get("per_kg_dispersed_m2_kg"), "m²/kg"))
+    st.caption(f"A = s · 6 V_d / d32 with V_d = {num(s['phases']['dispersed_volume_m3'], 'm³')} of "
+               f"{s['phases']['dispersed']} drops or bubbles.")

@@ -1,0 +1,387 @@
+"""Session state of the workbench: the case being edited, its validation and the field widgets.
+
+The source of truth is ``st.session_state["case_dict"]``, the raw case as a TOML-like dict with
+the user's unit strings.  Widgets are seeded from it and write back through ``on_change``
+callbacks, so the case survives moving between pages (Streamlit forgets the state of widgets
+that a page does not draw).  Validation is :func:`sizing.case.parse_case`, the same check as
+the command line; its problem lines ``"path: message"`` are shown under the matching field.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import re
+import shutil
+import tempfile
+from pathlib import Path
+
+import streamlit as st
+
+from sizing import views
+from sizing.case import dumps_case, parse_case
+from sizing.errors import InputError
+
+CASE = "case_dict"
+BASE = "case_base_dir"
+SOURCE = "case_source"
+VERSION = "files_version"
+STASH = "case_stash"  # values of fields hidden by a switch (restored when switched back)
+PREFIX = "f:"
+OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty")
+
+CAUTIONS = (
+    "Equilibrium estimate: confirm the dose by a lab batch and a plant trial.",
+    "Handle surfactants per their safety data sheet, with suitable protective equipment.",
+    "Food, cosmetic and pharmaceutical uses have legal limits on emulsifier levels.",
+    "Defer to local codes and qualified practice.",
+)
+
+
+# ---------------------------------------------------------------------------------------------
+# the case in the session
+
+
+def work_dir() -> Path:
+    """Return this session's folder for uploaded files (created on first use)."""
+    p = st.session_state.get("work_dir")
+    if p is None or not Path(p).is_dir():
+        p = tempfile.mkdtemp(prefix="sizing-ui-")
+        st.session_state["work_dir"] = p
+    return Path(p)
+
+
+def _copy_referenced(data: dict, source_dir: Path | None) -> None:
+    """Copy files a case names by relative path (size table, fitted block) into the work dir."""
+    if source_dir is None:
+        return
+    refs = [data.get("drops", {}).get("file"), data.get("surfactant", {}).get("from")]
+    for ref in refs:
+        if not isinstance(ref, str) or Path(ref).is_absolute() or ".." in Path(ref).parts:
+            continue
+        src = source_dir / ref
+        if src.is_file():
+            dst = work_dir() / ref
+            dst.parent.mkdir(parents=True, exist_ok=True)
+            shutil.copyfile(src, dst)
+
+
+def set_case(data: dict, source: str, source_dir: Path | None = None) -> None:
+    """Replace the case being edited; clear the field widgets so they show the new values."""
+    old = st.session_state.get(CASE)
+    if old is not None:
+        st.session_state["previous_case"] = old
+    _copy_referenced(data, source_dir)
+    st.session_state[CASE] = views.case_copy(data)
+    st.session_state[BASE] = str(work_dir())
+    st.session_state[SOURCE] = source
+    st.session_state[STASH] = {}
+    st.session_state[VERSION] = st.session_state.get(VERSION, 0) + 1
+    for key in [k for k in st.session_state if isinstance(k, str) and k.startswith(PREFIX)]:
+        del st.session_state[key]
+
+
+def ensure_case() -> dict:
+    """Return the case dict, loading the built-in demo when the session has none."""
+    if CASE not in st.session_state:
+        data, folder = views.load_demo()
+        set_case(data, "demo case", folder)
+    st.session_state.setdefault(BASE, str(work_dir()))
+    st.session_state.setdefault(STASH, {})
+    st.session_state.setdefault(VERSION, 0)
+    return st.session_state[CASE]
+
+
+def case_toml() -> str:
+    """Return the case being edited as TOML text (the user's strings, as a case file)."""
+    return dumps_case(ensure_case())
+
+
+def get(path: str, default=None):
+    section, _, key = path.partition(".")
+    return ensure_case().get(section, {}).get(key, default)
+
+
+def put(path: str, value) -> None:
+    """Set (or, with None, remove) one ``section.key`` of the case dict."""
+    data = ensure_case()
+    section, _, key = path.partition(".")
+    if value is None:
+        data.get(section, {}).pop(key, None)
+        if section in OPTIONAL_SECTIONS and data.get(section) == {}:
+            del data[section]
+    else:
+        data.setdefault(section, {})[key] = value
+
+
+def switch(old_paths: list[str], new_path: str, default) -> None:
+    """Replace one of several exclusive keys by ``new_path``, remembering the others' values."""
+    stash = st.session_state.setdefault(STASH, {})
+    for p in old_paths:
+        if p != new_path and get(p) is not None:
+            stash[p] = get(p)
+            put(p, None)
+    if get(new_path) is None:
+        put(new_path, stash.pop(new_path, default))
+    st.session_state.pop(PREFIX + new_path, None)
+
+
+# ---------------------------------------------------------------------------------------------
+# validation (the command line's checks) and the engine summary
+
+
+def check() -> dict:
+    """Validate the case and solve it once; memoised on the case text within the session.
+
+    Returns ``{"case": Case | None, "problems": [line, ...], "by_field": {path: [msg]},
+    "summary": solve dict | None, "toml": text, "base": folder}``.
+    """
+    data = ensure_case()
+    base = st.session_state[BASE]
+    try:
+        text = dumps_case(data)
+    except Exception as exc:  # a value TOML cannot hold; should not happen from the widgets
+        text = f"# not writable as TOML: {exc}"
+    key = hashlib.sha1(f"{text}\0{base}\0{st.session_state[VERSION]}".encode()).hexdigest()
+    memo = st.session_state.get("_check")
+    if memo and memo["key"] == key:
+        return memo
+    case = summary = None
+    try:
+        case = parse_case(data, base)
+        summary = views.summary(case)
+        problems: list[str] = []
+    except InputError as exc:
+        problems = list(exc.problems)
+        if summary is None and case is not None and not problems:
+            problems = [str(exc)]
+    result = {"key": key, "case": case if not problems else None, "problems": problems,
+              "by_field": views.problems_by_field(problems), "summary": summary if not problems else None,
+              "toml": text, "base": base}
+    st.session_state["_check"] = result
+    return result
+
+
+def needs_valid_case() -> dict:
+    """Return the check result, or show the problems and stop the page when the case is invalid."""
+    result = check()
+    if result["case"] is None:
+        st.error("The case has problems to fix before this page can compute "
+                 "(each is shown beside its field on the Case, Drops and bubbles or Surfactant page):\n\n"
+                 + "\n".join(f"- {line}" for line in result["problems"]))
+        st.stop()
+    return result
+
+
+# ---------------------------------------------------------------------------------------------
+# field widgets
+
+
+def _shown(raw) -> str:
+    if isinstance(raw, dict):
+        raw = raw.get("value", "")
+    if raw is None:
+        return ""
+    if isinstance(raw, bool):
+        return str(raw).lower()
+    if isinstance(raw, list):
+        return ", ".join(_shown(v) for v in raw)
+    if isinstance(raw, float) and raw.is_integer() and abs(raw) < 1e15:
+        return repr(raw)
+    return str(raw)
+
+
+_INT = re.compile(r"^[-+]?\d+$")
+
+
+def _number(text: str):
+    """Return an int or float for a plain number, else the text (validation then names it)."""
+    t = text.strip()
+    if _INT.match(t):
+        return int(t)
+    try:
+        x = float(t)
+    except ValueError:
+        return t
+    return x if math.isfinite(x) else t
+
+
+def _numbers(text: str):
+    parts = [p for p in re.split(r"[,\s;]+", text.strip()) if p]
+    out = [_number(p) for p in parts]
+    return out if all(isinstance(v, (int, float)) for v in out) else text
+
+
+def _store(path: str, kind: str, optional: bool) -> None:
+    text = st.session_state.get(PREFIX + path, "")
+    if kind == "choice":
+        put(path, text)
+        return
+    text = str(text)
+    if text.strip() == "" and optional:
+        put(path, None)
+        return
+    value: object = text.strip() if kind != "text" else text
+    if kind == "number":
+        value = _number(text)
+    elif kind == "list":
+        value = _numbers(text)
+    old = get(path)
+    if isinstance(old, dict) and kind in ("quantity", "number"):
+        new = dict(old)
+        new["value"] = value
+        value = new
+    put(path, value)
+
+
+def errors_for(path: str) -> list[str]:
+    return check()["by_field"].get(path, [])
+
+
+def show_errors(path: str, where=None) -> None:
+    """Show the problems of one field (or section) as ``st.error`` naming it."""
+    where = where or st
+    for msg in errors_for(path):
+        where.error(f"**{path}**: {msg}", icon=":material/error:")
+
+
+def field(path: str, label: str, *, kind: str = "quantity", help: str | None = None,
+          options: list | None = None, optional: bool = False, placeholder: str | None = None,
+          where=None) -> None:
+    """Draw one editable case field with its unit and any validation problem under it.
+
+    ``kind``: ``quantity`` (text with its unit, e.g. ``"2.4 um"``), ``number`` (a plain number),
+    ``text``, ``list`` (numbers separated by commas) or ``choice`` (one of ``options``).
+    """
+    where = where or st
+    key = PREFIX + path
+    raw = get(path)
+    if kind == "choice":
+        opts = list(options or [])
+        if raw not in opts:
+            opts = [raw] + opts if raw is not None else opts
+        if key not in st.session_state:
+            st.session_state[key] = raw if raw is not None else opts[0]
+        where.selectbox(label, opts, key=key, help=help, on_change=_store, args=(path, kind, optional))
+    else:
+        if key not in st.session_state:
+            st.session_state[key] = _shown(raw)
+        extra = ""
+        if isinstance(raw, dict):
+            spread = {k: v for k, v in raw.items() if k != "value"}
+            extra = " (uncertain: " + ", ".join(f"{k} = {v}" for k, v in spread.items()) + ")"
+        where.text_input(label + extra, key=key, help=help, placeholder=placeholder,
+                         on_change=_store, args=(path, kind, optional))
+    for msg in errors_for(path):
+        where.error(f"**{path}**: {msg}", icon=":material/error:")
+
+
+def sidebar_status() -> None:
+    """Show the case title, where it came from and whether it validates, in the sidebar."""
+    result = check()
+    data = ensure_case()
+    with st.sidebar:
+        st.markdown(f"**{data.get('case', {}).get('title', 'untitled case')}**")
+        st.caption(f"from: {st.session_state.get(SOURCE, 'demo case')}")
+        if result["problems"]:
+            st.error(f"{len(result['problems'])} problem(s) in the case", icon=":material/error:")
+        else:
+            st.success("case valid", icon=":material/check_circle:")
+        with st.expander("Cautions", expanded=False):
+            for line in CAUTIONS:
+                st.caption(line)
+
+
+# ---------------------------------------------------------------------------------------------
+# uploads
+
+MAX_UPLOAD_BYTES = 5 * 1024 * 1024
+
+
+def check_upload(name: str, data: bytes, suffixes: tuple[str, ...], field: str) -> str:
+    """Return an uploaded file's text, or raise InputError naming the field and what is allowed.
+
+    Refuses files over 5 MB, with another suffix, or that are not UTF-8 text.
+    """
+    suffix = Path(name).suffix.lower()
+    allowed = " or ".join(s.lstrip(".").upper() for s in suffixes)
+    if suffix not in suffixes:
+        raise InputError(f"{field}: {name!r} is not a {allowed} file; expected a file ending in "
+                         f"{' or '.join(suffixes)}")
+    if len(data) > MAX_UPLOAD_BYTES:
+        raise InputError(f"{field}: {name!r} is {len(data) / 1e6:.1f} MB; expected at most 5 MB")
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError(f"{field}: {name!r} is not UTF-8 text; expected a plain {allowed} file") from None
+    if "\x00" in text:
+        raise InputError(f"{field}: {name!r} holds binary data; expected a plain {allowed} file")
+    return text
+
+
+def case_from_upload(name: str, data: bytes) -> dict:
+    """Return the raw case dict of an uploaded TOML file, or raise InputError (nothing replaced)."""
+    import tomllib
+
+    text = check_upload(name, data, (".toml",), "case file")
+    try:
+        parsed = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"case file: {name!r} is not valid TOML ({exc})") from None
+    missing = [s for s in ("case", "batch", "drops", "surfactant", "target")
+               if not isinstance(parsed.get(s), dict)]
+    if missing:
+        raise InputError(f"case file: {name!r} lacks the section(s) {', '.join('[' + m + ']' for m in missing)}; "
+                         "expected a case file with [case], [batch], [drops], [surfactant] and [target]")
+    return parsed
+
+
+def save_upload(name: str, text: str, validate) -> str:
+    """Write an uploaded CSV into the work dir after ``validate(path)`` accepts it; return its name.
+
+    The file is first written under a temporary name; a file that fails validation is removed
+    and the previous file of that name is kept.
+    """
+    safe = re.sub(r"[^A-Za-z0-9._-]+", "_", Path(name).name) or "upload.csv"
+    folder = work_dir()
+    tmp = folder / f".incoming-{safe}"
+    tmp.write_text(text, encoding="utf-8")
+    try:
+        validate(tmp)
+    except BaseException:
+        tmp.unlink(missing_ok=True)
+        raise
+    tmp.replace(folder / safe)
+    st.session_state[VERSION] = st.session_state.get(VERSION, 0) + 1
+    return safe
+
+
+def new_upload(uploaded, slot: str) -> bool:
+    """Return True once per newly chosen file in an uploader ``slot`` (not on every rerun)."""
+    if uploaded is None:
+        return False
+    ident = f"{uploaded.name}:{uploaded.size}:{getattr(uploaded, 'file_id', '')}"
+    seen = st.session_state.setdefault("_uploads_seen", {})
+    if seen.get(slot) == ident:
+        return False
+    seen[slot] = ident
+    return True
+
+
+# ---------------------------------------------------------------------------------------------
+# cached engine views (plain data only)
+
+
+@st.cache_data(max_entries=256, show_spinner=False)
+def _view(name: str, toml_text: str, base: str, version: int, kwargs: tuple) -> object:
+    from sizing.case import loads_case
+
+    case = loads_case(toml_text, base)
+    return getattr(views, name)(case, **dict(kwargs))
+
+
+def view(name: str, **kwargs) -> object:
+    """Return ``sizing.views.<name>(case, **kwargs)`` for the current valid case, cached."""
+    result = check()
+    return _view(name, result["toml"], result["base"], st.session_state.get(VERSION, 0),
+                 tuple(sorted(kwargs.items())))
