@@ -54,19 +54,22 @@ AUTO_INCREMENT_NOTE = "automatic: a 1-2-5 step near 1 % of the charge (no [recom
 # rounding
 
 
-def auto_increment(kg) -> float:
+def auto_increment(kg):
     """Return a practical 1-2-5 weighing step [kg] near 1 % of ``kg`` (at least 1 g).
+
+    Scalars give a float, arrays an array.
 
     >>> auto_increment(11.42), auto_increment(230.0), auto_increment(0.0)
     (0.1, 2.0, 0.001)
     """
-    x = float(kg) * 0.01
-    if not (x > 0 and math.isfinite(x)):
-        return 0.001
-    exp = math.floor(math.log10(x))
-    mant = x / 10**exp
-    step = 1 if mant < 2 else 2 if mant < 5 else 5
-    return max(round(step * 10**exp, 12), 0.001)
+    x = 0.01 * np.asarray(kg, dtype=float)
+    ok = np.isfinite(x) & (x > 0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        exp = np.floor(np.log10(np.where(ok, x, 1.0)))
+        mant = np.where(ok, x, 1.0) / 10.0**exp
+    step = np.where(mant < 2, 1.0, np.where(mant < 5, 2.0, 5.0)) * 10.0**exp
+    out = np.where(ok, np.maximum(np.round(step, 12), 0.001), 0.001)
+    return float(out) if out.ndim == 0 else out
 
 
 def charge_for_dose(kg_product, margin, increment):

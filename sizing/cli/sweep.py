@@ -1,0 +1,29 @@
+"""``sizing sweep CASE --vary NAME=LOW..HIGH:N [--vary ...] [--csv FILE]``: what-if tables."""
+
+from __future__ import annotations
+
+
+def register(sub) -> None:
+    p = sub.add_parser("sweep", help="what-if table of the dose over one or two inputs",
+                       description="Solve a case over a grid of one or two inputs (one vectorised solve). "
+                                   "NAME is d32, dispersed_fraction, volume, coverage, temperature, ... "
+                                   "or any numeric case field by its TOML path (surfactant.cmc).")
+    p.add_argument("case", help="case file (TOML)")
+    p.add_argument("--vary", action="append", required=True, metavar="NAME=LOW..HIGH:N",
+                   help="e.g. 'd32=1um..5um:9' or 'batch.temperature=20..60 degC:5'; at most twice")
+    p.add_argument("--csv", metavar="FILE", help="also write the table as CSV (atomically)")
+    p.set_defaults(func=run)
+
+
+def run(args) -> int:
+    from ..case import load_case
+    from ..sweep import sweep
+    from .common import write_atomic
+
+    case = load_case(args.case)
+    df = sweep(case, args.vary)
+    print(df.to_string(index=False, float_format=lambda x: f"{x:.5g}"))
+    if args.csv:
+        write_atomic(args.csv, df.to_csv(index=False, float_format="%.10g"))
+        print(f"\nwrote {args.csv}")
+    return 0
