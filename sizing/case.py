@@ -320,6 +320,57 @@ class Uncertainty(Section):
     percentile: float = Field(default=90.0, ge=50.0, le=99.9)
 
 
+class LabPoint(Section):
+    """One lab homogenisation: the process variable and the d32 it gave (see :mod:`sizing.scaleup`)."""
+
+    d32: Length
+    pressure: Q("pressure", gt=0) | None = None
+    energy_density: Q("energy_density", gt=0) | None = None
+    tip_speed: Q("speed", gt=0) | None = None
+    speed: Q("frequency", gt=0) | None = None
+    diameter: Length | None = None
+
+    @model_validator(mode="after")
+    def _no_spread(self):
+        for key in type(self).model_fields:
+            v = getattr(self, key)
+            if isinstance(v, Value) and v.spread is not None:
+                raise ValueError(f"{key}: a lab point takes no spread (the fit estimates the scatter); "
+                                 f"got {v.raw!r}")
+        return self
+
+
+class Scaleup(Section):
+    """``[scaleup]``: plant drop size from process conditions (see :mod:`sizing.scaleup`)."""
+
+    method: Literal["power_law", "stirred_tank"] = "power_law"
+    variable: Literal["pressure", "energy_density", "tip_speed"] | None = None
+    points: list[LabPoint] = Field(default_factory=list)
+    plant: Q("pressure", "speed", "frequency", gt=0) | None = None
+    plant_diameter: Length | None = None
+    exponent: Q("dimensionless", ge=-3, lt=0) | None = None
+    rule: Literal["constant_power_per_volume", "constant_tip_speed", "constant_speed",
+                  "given_speed"] | None = None
+    lab_diameter: Length | None = None
+    lab_speed: Q("frequency", gt=0) | None = None
+    plant_speed: Q("frequency", gt=0) | None = None
+    weber_exponent: Q("dimensionless", ge=-2, lt=0) = Field(
+        default_factory=lambda: Value(-0.6, -0.6, "dimensionless"))
+
+    @model_validator(mode="after")
+    def _complete(self):
+        from .scaleup import check_section
+
+        check_section(self)
+        return self
+
+
+class Process(Section):
+    """``[process]``: plant process facts outside the balance (residence time for the kinetics flag)."""
+
+    residence_time: Q("time", gt=0) | None = None
+
+
 class Case(Section):
     """A whole case file.  ``source`` is the file's folder, for relative paths."""
 
@@ -331,6 +382,8 @@ class Case(Section):
     recommendation: Recommendation = Field(default_factory=Recommendation)
     trial: Trial = Field(default_factory=Trial)
     uncertainty: Uncertainty | None = None
+    scaleup: Scaleup | None = None
+    process: Process | None = None
 
     # not part of the file: where it was read from, and the fitted block's provenance
     _base_dir: Path | None = None

@@ -66,6 +66,7 @@ class Inputs:
     price_per_kg: object = math.nan
     size_stats: distribution.SizeStats | None = field(default=None, compare=False)
     clean_tension_source: str = "case"
+    lab_d32: object = math.nan  # [m] the case's own d32 when [scaleup] replaces it by the plant d32
 
     def with_values(self, **changes) -> "Inputs":
         """Return a copy with some fields replaced (e.g. ``d32=np.array([...])``)."""
@@ -105,6 +106,11 @@ def inputs_from_values(case, values: dict) -> Inputs:
     c = case
     stats = size_stats(c, values)
     d32 = values["drops.d32"] if "drops.d32" in values else stats.d32
+    lab_d32 = d32
+    if getattr(c, "scaleup", None) is not None:  # the plant d32 replaces the lab one
+        from .scaleup import plant_d32_of_values
+
+        d32 = values["scaleup.plant_d32"] if "scaleup.plant_d32" in values else plant_d32_of_values(c, values, d32)
     rho_c = _get(values, "batch.continuous_density")
     rho_d = _get(values, "batch.dispersed_density", AIR_DENSITY if c.case.system == "foam" else math.nan)
     phi = values["batch.dispersed_fraction"]
@@ -140,7 +146,7 @@ def inputs_from_values(case, values: dict) -> Inputs:
         partition_coefficient=values["surfactant.partition_coefficient"], clean_tension=gamma0,
         target_value=values[f"target.{kind}"], margin=values["target.margin"],
         price_per_kg=_get(values, "surfactant.price_per_kg"), size_stats=stats,
-        clean_tension_source=source,
+        clean_tension_source=source, lab_d32=lab_d32,
     )
 
 
@@ -156,7 +162,8 @@ def case_inputs(case, overrides: dict | None = None) -> Inputs:
 
 
 # fields that may be overridden although the case does not give them
-OVERRIDABLE_EXTRA = ("drops.d32", "target.coverage", "target.tension", "target.free_concentration")
+OVERRIDABLE_EXTRA = ("drops.d32", "target.coverage", "target.tension", "target.free_concentration",
+                     "scaleup.plant_d32")
 
 
 @dataclass(frozen=True)
@@ -386,6 +393,7 @@ def solution_json(sol: Solution, case=None) -> dict:
         "feasible": feasible,
         "max_coverage": _num(sol.max_coverage),
         "d32_m": _num(sol.d32),
+        **({"lab_d32_m": _num(i.lab_d32)} if getattr(case, "scaleup", None) is not None else {}),
         "interfacial_area_m2": area,
         "dose": dose,
         "state": {

@@ -1,0 +1,507 @@
+"""Plant drop size from process conditions: a calibrated power law, or a stirred-tank rule.
+
+Two methods, chosen by name (``[scaleup] method``):
+
+- ``power_law``: ``d32 = C X**b`` with X the homogenising pressure [Pa], the energy density
+  [J/m**3] or the rotor tip speed [m/s] (given directly or as a speed and a diameter,
+  ``v = pi N D``).  C and b are fitted by least squares in log space (``scipy.stats.linregress``)
+  from two or more lab points, with 95 % intervals; with one point (or an exponent fixed in the
+  case) only C is fitted and b is a default (:data:`DEFAULT_EXPONENTS`), marked as such.
+- ``stirred_tank``: the Weber-number correlation ``d32/D = C1 (1 + C2 phi) We**a``,
+  ``We = rho_c N**2 D**3 / sigma``, ``a = -0.6`` (Chen and Middleman 1967).  Calibrated on the
+  lab vessel (its d32 is the case's ``[drops]`` size), so C1, C2, rho_c and sigma cancel for
+  geometrically similar vessels and the same fluids::
+
+      d32_plant / d32_lab = (D_p/D_l) (We_p/We_l)**a,   We_p/We_l = (N_p/N_l)**2 (D_p/D_l)**3.
+
+  Rules: constant power per volume (``N**3 D**2`` kept, d32 unchanged at a = -0.6), constant
+  tip speed (``N D`` kept, d32 grows as D**0.4), constant speed, or a given plant speed.
+
+Every result carries a band: a 95 % prediction interval when the lab points allow one, else
+the spread of the prediction over an exponent window (:data:`EXPONENT_WINDOWS`), said so in
+``band_method``.  Extrapolation beyond the lab range is flagged, never clamped.
+
+References
+----------
+1. Chen, H. T. and Middleman, S., AIChE J. 13 (1967) 989 (stirred-tank drop size) [from memory].
+2. REFERENCES.md, "Drop size and scale-up": high-pressure homogenisers d32 ~ p**-0.6, exponents
+   -0.6 to -0.9 reported [from memory].
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import InputError
+
+METHODS = ("power_law", "stirred_tank")
+VARIABLES = ("pressure", "energy_density", "tip_speed")
+RULES = ("constant_power_per_volume", "constant_tip_speed", "constant_speed", "given_speed")
+
+# default exponent b of d32 = C X**b, and where it comes from
+DEFAULT_EXPONENTS = {
+    "pressure": (-0.6, "homogeniser d32 ~ p**-0.6, turbulent-inertial regime (REFERENCES.md) [from memory]"),
+    "energy_density": (-0.6, "d32 ~ E_V**-0.6, as for pressure (a valve homogeniser's E_V is about its "
+                             "pressure drop, common practice) [from memory]"),
+    "tip_speed": (-1.2, "We**-0.6 at fixed geometry gives d32 ~ (N D)**-1.2 (Chen and Middleman 1967) "
+                        "[derived from a from-memory exponent]"),
+}
+# exponent window used for a band when the lab points give no scatter estimate
+EXPONENT_WINDOWS = {
+    "pressure": (-0.9, -0.6, "reported exponents -0.6 to -0.9 (REFERENCES.md) [from memory]"),
+    "energy_density": (-0.9, -0.6, "reported exponents -0.6 to -0.9 (REFERENCES.md) [from memory]"),
+    "tip_speed": (-1.5, -0.9, "assumed window -1.2 +- 0.3 (no source; a plausibility range)"),
+}
+WEBER_WINDOW = 0.1  # +- on the Weber exponent for the stirred-tank band (assumption, no source)
+UNITS = {"pressure": "Pa", "energy_density": "J/m**3", "tip_speed": "m/s"}
+
+
+# ---------------------------------------------------------------------------------------------
+# validation of the [scaleup] section (called by sizing.case.Scaleup)
+
+
+def _point_x(point, variable: str, where: str) -> float:
+    """Return the process variable of a lab point [SI]."""
+    if variable == "tip_speed":
+        if point.tip_speed is not None:
+            if point.speed is not None:
+                raise ValueError(f"{where}: give tip_speed or speed with diameter, not both")
+            return point.tip_speed.si
+        if point.speed is None or point.diameter is None:
+            raise ValueError(f"{where}: variable = 'tip_speed' needs tip_speed (e.g. '12 m/s') or speed "
+                             "(e.g. '3000 rpm') with diameter (e.g. '5 cm')")
+        return math.pi * point.speed.si * point.diameter.si
+    v = getattr(point, variable)
+    if v is None:
+        raise ValueError(f"{where}: variable = {variable!r} needs {variable} in every lab point")
+    return v.si
+
+
+def check_section(s) -> None:
+    """Check that a ``[scaleup]`` section is complete for its method (raises ValueError)."""
+    if s.method == "power_law":
+        stray = [k for k in ("rule", "lab_diameter", "lab_speed", "plant_speed") if getattr(s, k) is not None]
+        if stray:
+            raise ValueError(f"method = 'power_law' does not use {', '.join(stray)} (stirred_tank keys)")
+        if s.variable is None:
+            raise ValueError(f"method = 'power_law' needs variable, one of {', '.join(VARIABLES)}")
+        if not s.points:
+            raise ValueError("method = 'power_law' needs points, e.g. points = [{ pressure = '300 bar', "
+                             "d32 = '1.8 um' }, ...] (one or more lab homogenisations)")
+        xs = [_point_x(p, s.variable, f"points[{i}]") for i, p in enumerate(s.points)]
+        for i, p in enumerate(s.points):
+            others = [k for k in VARIABLES if k != s.variable and getattr(p, k) is not None]
+            if s.variable != "tip_speed" and (p.speed is not None or p.diameter is not None):
+                others += [k for k in ("speed", "diameter") if getattr(p, k) is not None]
+            if others:
+                raise ValueError(f"points[{i}]: variable = {s.variable!r}; remove {', '.join(others)}")
+        if len(s.points) >= 2 and len(set(xs)) < 2 and s.exponent is None:
+            raise ValueError(f"points: all lab points have the same {s.variable}; a fit of the exponent "
+                             "needs two different values (or give exponent)")
+        if s.plant is None:
+            raise ValueError(f"method = 'power_law' needs plant, the plant's {s.variable} "
+                             f"(e.g. {_example(s.variable)})")
+        want = {"pressure": ("pressure",), "energy_density": ("pressure",), "tip_speed": ("speed", "frequency")}
+        if s.plant.dimension not in want[s.variable]:
+            raise ValueError(f"plant: expected the plant's {s.variable} such as {_example(s.variable)}, "
+                             f"got {s.plant.raw!r}")
+        if s.plant.dimension == "frequency" and s.plant_diameter is None:
+            raise ValueError("plant: a stirrer or rotor speed needs plant_diameter (e.g. '0.3 m') to give "
+                             "the tip speed pi N D")
+        if s.plant.dimension != "frequency" and s.plant_diameter is not None:
+            raise ValueError("plant_diameter: only used when plant is a speed in rpm or 1/s")
+        return
+    stray = [k for k in ("variable", "plant", "exponent") if getattr(s, k) is not None]
+    if s.points:
+        stray.append("points")
+    if stray:
+        raise ValueError(f"method = 'stirred_tank' does not use {', '.join(stray)} (power_law keys)")
+    missing = [k for k in ("lab_diameter", "lab_speed", "plant_diameter", "rule") if getattr(s, k) is None]
+    if missing:
+        raise ValueError(f"method = 'stirred_tank' needs {', '.join(missing)} (impeller diameters, the lab "
+                         f"speed and a rule, one of {', '.join(RULES)})")
+    if (s.rule == "given_speed") != (s.plant_speed is not None):
+        raise ValueError("plant_speed is needed with rule = 'given_speed' and only then")
+
+
+def _example(variable: str) -> str:
+    return {"pressure": "'600 bar'", "energy_density": "'6e7 J/m**3'",
+            "tip_speed": "'20 m/s' or plant = '1500 rpm' with plant_diameter"}[variable]
+
+
+# ---------------------------------------------------------------------------------------------
+# power law
+
+
+@dataclass(frozen=True)
+class PowerLawFit:
+    """A fitted ``d32 = C X**b``.
+
+    Attributes
+    ----------
+    prefactor : C [m / X_unit**b]; exponent : b [-]
+    prefactor_interval, exponent_interval : 95 % intervals (None where not estimable)
+    exponent_is_default : b was not fitted (one point, or fixed in the case)
+    exponent_source : where a default or fixed b comes from
+    n_points, dof : number of lab points, residual degrees of freedom
+    residual_sd_ln : standard deviation of the ln d32 residuals [-] (nan when dof = 0)
+    x_range : (min, max) of the lab X [SI]
+    """
+
+    prefactor: float
+    exponent: float
+    prefactor_interval: tuple | None
+    exponent_interval: tuple | None
+    exponent_is_default: bool
+    exponent_source: str
+    n_points: int
+    dof: int
+    residual_sd_ln: float
+    x_range: tuple
+    variable: str = ""
+    _lnx: np.ndarray = field(default=None, repr=False, compare=False)
+    _fixed: bool = False
+
+
+def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLawFit:
+    """Fit ``d32 = C X**b`` in log space, with 95 % intervals.
+
+    Parameters
+    ----------
+    x : array [SI of the variable]; d32 : array [m], one per lab point
+    exponent : b [-] to hold fixed; None fits it (two or more points) or takes the default
+        of ``variable`` (one point)
+    variable : 'pressure', 'energy_density' or 'tip_speed' (chooses the default exponent)
+
+    Returns
+    -------
+    PowerLawFit
+
+    Raises
+    ------
+    InputError
+        Non-positive values, or the exponent cannot be fitted.
+
+    Notes
+    -----
+    ``ln d32 = ln C + b ln X`` by ordinary least squares (``scipy.stats.linregress``); with the
+    exponent fixed, ``ln C`` is the mean of ``ln d32 - b ln X``.  Intervals use Student's t with
+    the residual degrees of freedom (n - 2, or n - 1 with b fixed).
+
+    Examples
+    --------
+    >>> f = fit_power_law([1e7, 4e7, 1.6e8], [4e-6, 1.74110112659e-6, 7.5785828326e-7])
+    >>> round(f.exponent, 9), f.exponent_is_default
+    (-0.6, False)
+    """
+    from scipy import stats
+
+    x = np.asarray(x, dtype=float).ravel()
+    d = np.asarray(d32, dtype=float).ravel()
+    if x.size != d.size or x.size == 0:
+        raise InputError("scaleup.points: expected one or more lab points, each with X and d32")
+    if np.any(x <= 0) or np.any(d <= 0):
+        raise InputError("scaleup.points: expected positive process variables and d32 values")
+    lx, ld = np.log(x), np.log(d)
+    n = x.size
+    t975 = None
+    if exponent is None and n >= 2:
+        r = stats.linregress(lx, ld)
+        b, a = float(r.slope), float(r.intercept)
+        dof = n - 2
+        resid = ld - (a + b * lx)
+        s = math.sqrt(float(resid @ resid) / dof) if dof > 0 else math.nan
+        b_int = a_int = None
+        if dof > 0:
+            t975 = stats.t.ppf(0.975, dof)
+            b_int = (b - t975 * r.stderr, b + t975 * r.stderr)
+            a_int = (a - t975 * r.intercept_stderr, a + t975 * r.intercept_stderr)
+        return PowerLawFit(
+            prefactor=math.exp(a), exponent=b,
+            prefactor_interval=(math.exp(a_int[0]), math.exp(a_int[1])) if a_int else None,
+            exponent_interval=b_int, exponent_is_default=False,
+            exponent_source=f"fitted to {n} lab points", n_points=n, dof=dof, residual_sd_ln=s,
+            x_range=(float(x.min()), float(x.max())), variable=variable, _lnx=lx,
+        )
+    if exponent is None:
+        b, source = DEFAULT_EXPONENTS[variable]
+        is_default, fixed = True, False
+    else:
+        b, source = float(exponent), "fixed in the case (scaleup.exponent)"
+        is_default, fixed = False, True
+    a_each = ld - b * lx
+    a = float(a_each.mean())
+    dof = n - 1
+    s = float(a_each.std(ddof=1)) if dof > 0 else math.nan
+    a_int = None
+    if dof > 0:
+        t975 = stats.t.ppf(0.975, dof)
+        half = t975 * s / math.sqrt(n)
+        a_int = (math.exp(a - half), math.exp(a + half))
+    return PowerLawFit(
+        prefactor=math.exp(a), exponent=b, prefactor_interval=a_int, exponent_interval=None,
+        exponent_is_default=is_default, exponent_source=source, n_points=n, dof=dof, residual_sd_ln=s,
+        x_range=(float(x.min()), float(x.max())), variable=variable, _lnx=lx, _fixed=fixed,
+    )
+
+
+def predict_power_law(fit: PowerLawFit, x):
+    """Return ``(d32, lo, hi, band_method)`` at X [SI] (arrays broadcast over ``x``) [m].
+
+    The band is the 95 % prediction interval of ln d32 when the residuals give a scatter
+    (``dof > 0``), else the predictions over the exponent window of the variable, pivoting on
+    the lab point nearest in ln X, together with the fitted prediction.
+    """
+    from scipy import stats
+
+    x = np.asarray(x, dtype=float)
+    lx = np.log(x)
+    d = fit.prefactor * x ** fit.exponent
+    if fit.dof > 0 and math.isfinite(fit.residual_sd_ln):
+        t975 = stats.t.ppf(0.975, fit.dof)
+        n, lxs = fit.n_points, fit._lnx
+        if fit.exponent_interval is not None:  # both fitted
+            sxx = float(((lxs - lxs.mean()) ** 2).sum())
+            se = fit.residual_sd_ln * np.sqrt(1 + 1 / n + (lx - lxs.mean()) ** 2 / sxx)
+        else:  # b held: only ln C uncertain
+            se = fit.residual_sd_ln * math.sqrt(1 + 1 / n) + 0 * lx
+        return d, d * np.exp(-t975 * se), d * np.exp(t975 * se), (
+            f"95 % prediction interval (Student t, {fit.dof} degrees of freedom)")
+    lo_b, hi_b, src = EXPONENT_WINDOWS[fit.variable]
+    # pivot: the lab point nearest in ln X (the fitted line passes through it when dof = 0)
+    lxs = fit._lnx
+    idx = np.argmin(np.abs(lx[..., None] - lxs), axis=-1) if lx.ndim else int(np.argmin(np.abs(lx - lxs)))
+    lx0 = lxs[idx]
+    d0 = fit.prefactor * np.exp(fit.exponent * lx0)
+    cands = [d, d0 * np.exp(lo_b * (lx - lx0)), d0 * np.exp(hi_b * (lx - lx0))]
+    return d, np.minimum.reduce(cands), np.maximum.reduce(cands), (
+        f"exponent window {lo_b:g} to {hi_b:g} around the nearest lab point ({src}); "
+        "no scatter estimate from the lab points")
+
+
+# ---------------------------------------------------------------------------------------------
+# stirred tank
+
+
+def stirred_tank_speed(lab_diameter, lab_speed, plant_diameter, rule: str, plant_speed=None):
+    """Return the plant impeller speed N_p [1/s] under a geometric scale-up rule.
+
+    Notes
+    -----
+    Geometric similarity, turbulent regime (power number constant): power per volume
+    ``P/V ~ N**3 D**2``; tip speed ``pi N D``.  So constant P/V gives ``N_p = N_l (D_l/D_p)**(2/3)``,
+    constant tip speed ``N_p = N_l D_l/D_p``, constant speed ``N_p = N_l`` [common practice].
+
+    Examples
+    --------
+    >>> round(float(stirred_tank_speed(0.1, 10.0, 0.8, "constant_tip_speed")), 12)
+    1.25
+    """
+    d_l, n_l, d_p = (np.asarray(v, dtype=float) for v in (lab_diameter, lab_speed, plant_diameter))
+    if rule == "constant_power_per_volume":
+        return n_l * (d_l / d_p) ** (2.0 / 3.0)
+    if rule == "constant_tip_speed":
+        return n_l * d_l / d_p
+    if rule == "constant_speed":
+        return n_l + 0 * d_p
+    if rule == "given_speed":
+        if plant_speed is None:
+            raise InputError("scaleup.plant_speed: rule = 'given_speed' needs the plant speed (e.g. '90 rpm')")
+        return np.asarray(plant_speed, dtype=float) + 0 * d_p
+    raise InputError(f"scaleup.rule: unknown rule {rule!r}; expected one of {', '.join(RULES)}")
+
+
+def stirred_tank_ratio(lab_diameter, lab_speed, plant_diameter, plant_speed, weber_exponent=-0.6):
+    """Return d32_plant / d32_lab [-] for geometrically similar stirred tanks.
+
+    Notes
+    -----
+    ``d32/D = C1 (1 + C2 phi) We**a``, ``We = rho_c N**2 D**3/sigma`` (Chen and Middleman 1967,
+    a = -0.6 [from memory]); same fluids and phi, so
+    ``ratio = (D_p/D_l) ((N_p/N_l)**2 (D_p/D_l)**3)**a``.
+
+    Examples
+    --------
+    >>> n_p = stirred_tank_speed(0.1, 10.0, 0.8, "constant_power_per_volume")
+    >>> round(float(stirred_tank_ratio(0.1, 10.0, 0.8, n_p)), 12)
+    1.0
+    """
+    d_l, n_l, d_p, n_p, a = (np.asarray(v, dtype=float)
+                             for v in (lab_diameter, lab_speed, plant_diameter, plant_speed, weber_exponent))
+    we_ratio = (n_p / n_l) ** 2 * (d_p / d_l) ** 3
+    return (d_p / d_l) * we_ratio ** a
+
+
+# ---------------------------------------------------------------------------------------------
+# the case layer
+
+
+def _get(values: dict, path: str, section, key: str):
+    if path in values:
+        return values[path]
+    v = getattr(section, key)
+    return None if v is None else v.si
+
+
+def plant_x(s, values: dict):
+    """Return the plant's process variable X [SI] from the section and (possibly array) values."""
+    x = _get(values, "scaleup.plant", s, "plant")
+    if s.plant.dimension == "frequency":
+        x = math.pi * np.asarray(x) * np.asarray(_get(values, "scaleup.plant_diameter", s, "plant_diameter"))
+    return x
+
+
+def lab_fit(s) -> PowerLawFit:
+    """Return the power-law fit of a ``power_law`` section's lab points."""
+    xs = [_point_x(p, s.variable, f"scaleup.points[{i}]") for i, p in enumerate(s.points)]
+    ds = [p.d32.si for p in s.points]
+    exponent = s.exponent.si if s.exponent is not None else None
+    return fit_power_law(xs, ds, exponent, s.variable)
+
+
+def plant_d32_of_values(case, values: dict, lab_d32):
+    """Return the plant d32 [m] of a case with ``[scaleup]`` (arrays where ``values`` has them).
+
+    ``lab_d32`` is the case's own drop size [m]: the lab vessel's d32 for ``stirred_tank``
+    (unused by ``power_law``, whose lab points carry their own sizes).
+    """
+    s = case.scaleup
+    if s.method == "power_law":
+        x = np.asarray(plant_x(s, values), dtype=float)
+        if s.exponent is not None:
+            # b held (possibly an array from a spread): ln C = mean(ln d) - b mean(ln X) for each b
+            b = np.asarray(values.get("scaleup.exponent", s.exponent.si), dtype=float)
+            lxs = np.log([_point_x(p, s.variable, "scaleup.points") for p in s.points])
+            lds = np.log([p.d32.si for p in s.points])
+            return np.exp(lds.mean()) * (x / np.exp(lxs.mean())) ** b
+        fit = lab_fit(s)
+        return fit.prefactor * x ** fit.exponent
+    n_l = _get(values, "scaleup.lab_speed", s, "lab_speed")
+    d_l = _get(values, "scaleup.lab_diameter", s, "lab_diameter")
+    d_p = _get(values, "scaleup.plant_diameter", s, "plant_diameter")
+    n_p = stirred_tank_speed(d_l, n_l, d_p, s.rule, _get(values, "scaleup.plant_speed", s, "plant_speed"))
+    a = _get(values, "scaleup.weber_exponent", s, "weber_exponent")
+    return np.asarray(lab_d32) * stirred_tank_ratio(d_l, n_l, d_p, n_p, a)
+
+
+@dataclass(frozen=True)
+class ScaleupResult:
+    """The plant drop size of a case, with its band and how it was found (SI floats)."""
+
+    method: str
+    lab_d32: float
+    plant_d32: float
+    band: tuple
+    band_method: str
+    exponent: float
+    exponent_is_default: bool
+    exponent_source: str
+    details: dict
+    warnings: list
+
+
+def scaleup_case(case) -> ScaleupResult:
+    """Predict the plant d32 of a case with a ``[scaleup]`` section.
+
+    Raises
+    ------
+    InputError
+        The case has no ``[scaleup]`` section.
+    """
+    from .model import size_stats
+
+    s = case.scaleup
+    if s is None:
+        raise InputError("scaleup: the case has no [scaleup] section; add method = 'power_law' with lab "
+                         "points and the plant conditions, or method = 'stirred_tank' with the vessels")
+    values = case.values()
+    lab_d32 = float(values["drops.d32"]) if "drops.d32" in values else float(size_stats(case, values).d32)
+    warnings: list[str] = []
+    if s.method == "power_law":
+        fit = lab_fit(s)
+        x = float(plant_x(s, values))
+        d, lo, hi, how = predict_power_law(fit, x)
+        xmin, xmax = fit.x_range
+        if x < xmin * (1 - 1e-12) or x > xmax * (1 + 1e-12):
+            warnings.append(f"the plant {s.variable} {x:.4g} {UNITS[s.variable]} lies outside the lab range "
+                            f"{xmin:.4g} to {xmax:.4g} {UNITS[s.variable]}: the power law is extrapolated")
+        if fit.exponent_is_default:
+            warnings.append(f"exponent b = {fit.exponent:g} is a DEFAULT ({fit.exponent_source}), not fitted: "
+                            "measure at two or more settings to calibrate it")
+        if not fit.exponent_is_default and fit.exponent >= 0:
+            warnings.append(f"fitted exponent b = {fit.exponent:.3g} >= 0: drops do not shrink with "
+                            f"{s.variable} in these lab points; check the data (over-processing, coalescence)")
+        details = {
+            "variable": s.variable, "variable_unit": UNITS[s.variable], "plant_x": x,
+            "prefactor": fit.prefactor, "prefactor_unit": f"m/({UNITS[s.variable]})**b",
+            "prefactor_interval": fit.prefactor_interval, "exponent_interval": fit.exponent_interval,
+            "n_points": fit.n_points, "dof": fit.dof, "residual_sd_ln": fit.residual_sd_ln,
+            "lab_x_range": list(fit.x_range), "extrapolated": bool(warnings and "extrapolated" in warnings[0]),
+            "rule": None,
+        }
+        return ScaleupResult("power_law", lab_d32, float(d), (float(lo), float(hi)), how, fit.exponent,
+                             fit.exponent_is_default, fit.exponent_source, details, warnings)
+    d_l, n_l, d_p = s.lab_diameter.si, s.lab_speed.si, s.plant_diameter.si
+    n_p = float(stirred_tank_speed(d_l, n_l, d_p, s.rule, s.plant_speed.si if s.plant_speed else None))
+    a = s.weber_exponent.si
+    ratio = float(stirred_tank_ratio(d_l, n_l, d_p, n_p, a))
+    r_lo = float(stirred_tank_ratio(d_l, n_l, d_p, n_p, a - WEBER_WINDOW))
+    r_hi = float(stirred_tank_ratio(d_l, n_l, d_p, n_p, a + WEBER_WINDOW))
+    lo, hi = lab_d32 * min(ratio, r_lo, r_hi), lab_d32 * max(ratio, r_lo, r_hi)
+    if d_p < d_l:
+        warnings.append("the plant impeller is smaller than the lab one: check the diameters")
+    details = {
+        "rule": s.rule, "lab_diameter_m": d_l, "plant_diameter_m": d_p,
+        "lab_speed_1_s": n_l, "plant_speed_1_s": n_p, "plant_speed_rpm": 60 * n_p,
+        "lab_tip_speed_m_s": math.pi * n_l * d_l, "plant_tip_speed_m_s": math.pi * n_p * d_p,
+        "power_per_volume_ratio": (n_p / n_l) ** 3 * (d_p / d_l) ** 2,
+        "weber_ratio": (n_p / n_l) ** 2 * (d_p / d_l) ** 3, "d32_ratio": ratio,
+        "correlation": "d32/D = C1 (1 + C2 phi) We**a (Chen and Middleman 1967) [from memory]",
+        "variable": None,
+    }
+    how = (f"Weber exponent {a - WEBER_WINDOW:g} to {a + WEBER_WINDOW:g} (assumed window around {a:g}; "
+           "no source)")
+    is_default = "weber_exponent" not in ((case._raw or {}).get("scaleup") or {})
+    source = ("We**-0.6, Chen and Middleman 1967 [from memory]" if is_default
+              else "fixed in the case (scaleup.weber_exponent)")
+    return ScaleupResult("stirred_tank", lab_d32, lab_d32 * ratio, (lo, hi), how, a, is_default, source,
+                         details, warnings)
+
+
+def scaleup_json(case, result: ScaleupResult | None = None) -> dict:
+    """Return the ``sizing scaleup --json`` object: plant d32 with its band and the dose it implies."""
+    from .model import case_inputs, solution_json, solve
+
+    r = scaleup_case(case) if result is None else result
+    plant = solution_json(solve(case_inputs(case)), case)
+    band_doses = solve(case_inputs(case, {"scaleup.plant_d32": np.array(r.band)}))
+    lab = solve(case_inputs(case, {"scaleup.plant_d32": r.lab_d32}))
+    feasible = bool(np.all(band_doses.feasible))
+
+    def _f(x):
+        x = float(x)
+        return x if math.isfinite(x) else None
+
+    return {
+        "title": case.case.title,
+        "method": r.method,
+        "lab_d32_m": r.lab_d32,
+        "plant_d32_m": r.plant_d32,
+        "plant_d32_band_m": list(r.band),
+        "band_method": r.band_method,
+        "rule": r.details.get("rule"),
+        "variable": r.details.get("variable"),
+        "exponent": r.exponent,
+        "exponent_is_default": r.exponent_is_default,
+        "exponent_source": r.exponent_source,
+        "details": r.details,
+        "warnings": r.warnings,
+        "dose": plant["dose"],
+        "dose_band_kg_product": sorted(_f(v) for v in band_doses.kg_product) if feasible else None,
+        "lab_dose_kg_product": _f(lab.kg_product) if bool(np.all(lab.feasible)) else None,
+        "feasible": plant["feasible"],
+        "solve": plant,
+    }
