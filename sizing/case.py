@@ -163,7 +163,8 @@ def _shape_factor(v):
     return v
 
 
-ShapeFactor = Annotated[Value, BeforeValidator(_shape_factor), _quantity(("dimensionless",), ge=1, le=2)]
+# before-validators run last-first: the name lookup must come after (so run before) the number check
+ShapeFactor = Annotated[Value, _quantity(("dimensionless",), ge=1, le=2), BeforeValidator(_shape_factor)]
 
 
 class Section(BaseModel):
@@ -252,7 +253,7 @@ class Surfactant(Section):
     max_surface_excess: Q("surface_excess", "surface_load", gt=0) | None = None
     area_per_molecule: Q("area", gt=0) | None = None
     adsorption_constant: Q("adsorption_constant", gt=0)
-    interaction: Q("dimensionless", ge=-20, le=2) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    interaction: Q("dimensionless", ge=-20, le=20) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
     gibbs_prefactor: Q("dimensionless", ge=1, le=3) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
     partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
     clean_tension: Q("tension", gt=0) | None = None
@@ -270,6 +271,12 @@ class Surfactant(Section):
             raise ValueError(
                 "give exactly one of max_surface_excess (e.g. '3.3 umol/m**2' or '2 mg/m**2') "
                 "or area_per_molecule (e.g. '0.50 nm**2')"
+            )
+        if self.interaction.si > 2:
+            raise ValueError(
+                f"interaction: {self.interaction.raw!r} is above 2; a Frumkin interaction beta > 2 "
+                "means a two-dimensional phase transition on the interface, where coverage is not a "
+                "single-valued function of concentration; expected beta <= 2"
             )
         if self.isotherm.strip().lower() != "frumkin" and self.interaction.si != 0:
             raise ValueError("interaction (Frumkin beta) is only used with isotherm = 'frumkin'")
@@ -473,6 +480,12 @@ def format_errors(exc: ValidationError) -> list[str]:
                 if msg.startswith(prefix):
                     msg = msg[len(prefix):]
             given = err.get("input")
+            # a section-level check that names one of its keys first: "isotherm: ..." -> path.key
+            head, sep, rest = msg.partition(": ")
+            if sep and head.isidentifier():
+                model = _model_for(loc + ("x",))
+                if model is not None and head in model.model_fields:
+                    path, msg = f"{path}.{head}", rest
             if kind.startswith("value_error") and ("got" in msg or repr(given) in msg):
                 lines.append(f"{path}: {msg}")
             elif isinstance(given, dict) and len(loc) <= 1:
@@ -509,6 +522,34 @@ def _merge_from(data: dict, base_dir: Path | None) -> dict | None:
     return prov
 
 
+# "exactly one of" rules of a section; pydantic skips a section's own check when one of its
+# fields already failed, so these are checked again on the raw table to report every problem
+_CHOICES = {
+    "target": (("coverage", "tension", "free_concentration"),
+               "give exactly one target: coverage (0..1), tension (e.g. '35 mN/m') or "
+               "free_concentration (e.g. '0.5 mM'); got {given}"),
+    "batch": (("volume", "mass"),
+              "give the batch size as exactly one of volume (e.g. '2 m**3') or mass (e.g. '2000 kg'); "
+              "got {given}"),
+    "surfactant": (("max_surface_excess", "area_per_molecule"),
+                   "give exactly one of max_surface_excess (e.g. '3.3 umol/m**2' or '2 mg/m**2') "
+                   "or area_per_molecule (e.g. '0.50 nm**2'); got {given}"),
+}
+
+
+def _with_choice_problems(lines: list[str], data: dict) -> list[str]:
+    """Add the "exactly one of" problems that pydantic did not get to (see ``_CHOICES``)."""
+    out = list(lines)
+    for section, (keys, text) in _CHOICES.items():
+        table = data.get(section)
+        if not isinstance(table, dict) or any(line.startswith(f"{section}: ") for line in out):
+            continue
+        given = [k for k in keys if k in table]
+        if len(given) != 1:
+            out.append(f"{section}: " + text.format(given=", ".join(given) if given else "none"))
+    return out
+
+
 def parse_case(data: dict, base_dir: Path | str | None = None) -> Case:
     """Validate a case given as a dict (parsed TOML).
 
@@ -526,7 +567,7 @@ def parse_case(data: dict, base_dir: Path | str | None = None) -> Case:
     try:
         case = Case.model_validate(work)
     except ValidationError as exc:
-        raise InputError(problems=format_errors(exc)) from None
+        raise InputError(problems=_with_choice_problems(format_errors(exc), work)) from None
     case._base_dir = base
     case._provenance = provenance
     case._raw = raw

@@ -425,7 +425,7 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     mol_all = kg_all * _f(inputs.active_fraction) / _f(inputs.molar_mass)
     fwd = model.solve(inputs, dose_mol=mol_all)
     st = fwd.state
-    split0 = {k: _f(np.asarray(v)[0]) for k, v in model.split_by_phase(fwd).items()}
+    split0 = {k: _f(np.broadcast_to(v, kg_all.shape)[0]) for k, v in model.split_by_phase(fwd).items()}
     total0 = _f(st.total_mol[0])
     rec = Recommendation(
         kg_product_per_batch=_f(fwd.kg_product[0]), kg_active_per_batch=_f(fwd.kg_active[0]),
