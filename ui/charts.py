@@ -20,13 +20,13 @@ def num(x, unit: str = "", digits: int = 3) -> str:
     return f"{sig(x, digits)} {unit}".strip()
 
 
-def _rule(value: float, label: str, color: str, axis: str = "x") -> alt.LayerChart:
+def _rule(value: float, label: str, color: str, axis: str = "x", row: int = 0) -> alt.LayerChart:
     df = pd.DataFrame({"v": [value], "label": [label]})
     enc = {axis: alt.X("v:Q") if axis == "x" else alt.Y("v:Q")}
     line = alt.Chart(df).mark_rule(color=color, strokeDash=[6, 4], size=2).encode(
         **enc, tooltip=[alt.Tooltip("label:N", title="marker"), alt.Tooltip("v:Q", title="value", format=".3g")])
     text = alt.Chart(df).mark_text(align="left", dx=4, dy=-6, color=color, fontSize=11).encode(
-        **enc, text="label:N", **({"y": alt.value(12)} if axis == "x" else {"x": alt.value(4)}))
+        **enc, text="label:N", **({"y": alt.value(12 + 14 * row)} if axis == "x" else {"x": alt.value(4)}))
     return line + text
 
 
@@ -44,7 +44,8 @@ def size_distribution(curve: dict) -> alt.LayerChart:
     )
     layers = base + _rule(curve["d32_m"] * UM, f"d32 = {sig(curve['d32_m'] * UM, 3)} um", "#d62728")
     if curve.get("dv50_m"):
-        layers = layers + _rule(curve["dv50_m"] * UM, f"dv50 = {sig(curve['dv50_m'] * UM, 3)} um", "#2ca02c")
+        layers = layers + _rule(curve["dv50_m"] * UM, f"dv50 = {sig(curve['dv50_m'] * UM, 3)} um", "#2ca02c",
+                                row=1)
     return layers.properties(height=300)
 
 
@@ -72,7 +73,8 @@ def dose_vs_coverage(curve: dict) -> alt.LayerChart:
     )
     layers = line + _rule(curve["max_coverage"], f"CMC ceiling {curve['max_coverage']:.3f}", "#d62728")
     if curve.get("target_coverage") is not None:
-        layers = layers + _rule(curve["target_coverage"], f"target {curve['target_coverage']:.3f}", "#2ca02c")
+        layers = layers + _rule(curve["target_coverage"], f"target {curve['target_coverage']:.3f}", "#2ca02c",
+                                row=1)
         if curve.get("target_kg_product") is not None:
             pt = pd.DataFrame({"coverage": [curve["target_coverage"]], "kg_product": [curve["target_kg_product"]]})
             layers = layers + alt.Chart(pt).mark_point(color="#2ca02c", size=90, filled=True).encode(
@@ -132,7 +134,7 @@ def histogram(values, title: str, markers: dict[str, float]) -> alt.LayerChart:
     layers = bars
     colors = ["#2ca02c", "#d62728", "#2ca02c", "#555555"]
     for i, (label, v) in enumerate(markers.items()):
-        layers = layers + _rule(v, f"{label} {sig(v, 3)}", colors[i % len(colors)])
+        layers = layers + _rule(v, f"{label} {sig(v, 3)}", colors[i % len(colors)], row=i % 2)
     return layers.properties(height=280)
 
 

@@ -29,13 +29,17 @@ def entry_script():
 
 
 def command(port: int, headless: bool) -> list[str]:
-    """Return the ``streamlit run`` command line for the workbench."""
+    """Return the ``streamlit run`` command line for the workbench.
+
+    Streamlit runs through ``ui.launch``, which makes ``st.navigation`` in ``ui/app.py`` own the
+    pages (Streamlit would otherwise treat the ``ui/pages`` folder as its older page layout).
+    """
     import sys
 
-    return [sys.executable, "-m", "streamlit", "run", str(entry_script()),
+    return [sys.executable, "-m", "ui.launch", "run", str(entry_script()),
             "--server.address", "127.0.0.1", "--server.port", str(port),
             "--server.headless", "true" if headless else "false",
-            "--browser.gatherUsageStats", "false"]
+            "--browser.gatherUsageStats", "false", "--client.toolbarMode", "minimal"]
 
 
 def run(args) -> int:

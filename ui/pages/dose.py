@@ -3,6 +3,7 @@
 import math
 
 import numpy as np
+import pandas as pd
 import streamlit as st
 
 from ui import charts, state
@@ -40,7 +41,7 @@ else:
         m[3].metric("Per litre of batch", num(dose["g_per_l"], "g/L"), help="product as delivered")
         m = st.columns(4)
         m[0].metric("Per interfacial area", num(dose["mg_per_m2"], "mg/m²"), help="active")
-        m[1].metric("On dispersed phase", num(dose.get("percent_on_dispersed"), "% by mass"), help="product")
+        m[1].metric("On dispersed phase (by mass)", num(dose.get("percent_on_dispersed"), "%"), help="product")
         m[2].metric("Cost per batch", num(dose.get("cost"), currency))
         m[3].metric("Largest coverage (CMC)", num(s["max_coverage"], ""))
 
@@ -59,10 +60,9 @@ with left:
     st.subheader("Where the dose goes")
     rows = state.view("dose_split")
     st.altair_chart(charts.dose_split(rows), width="stretch", key="chart_split")
-    st.dataframe(
+    st.table(pd.DataFrame(
         [{"where": r["place"], "active [kg]": num(r["kg_active"], "", 4), "amount [mol]": num(r["mol"], "", 4),
-          "share [%]": f"{r['percent']:.1f}"} for r in rows],
-        hide_index=True, width="stretch", key="table_split")
+          "share [%]": f"{r['percent']:.1f}"} for r in rows]).set_index("where"))
 with right:
     st.subheader("Dose against coverage")
     st.altair_chart(charts.dose_vs_coverage(state.view("dose_vs_coverage")), width="stretch", key="chart_cov")
@@ -83,7 +83,9 @@ with c2:
     what = state.view("summary", d32=pick / UM)
     if what["feasible"]:
         kg = what["dose"]["kg_product"]
-        delta = None if dose is None else f"{kg - dose['kg_product']:+.3g} kg against the case"
+        delta = None
+        if dose is not None and abs(kg - dose["kg_product"]) > 1e-9 * abs(kg):
+            delta = f"{kg - dose['kg_product']:+.3g} kg against the case"
         st.metric(f"Product at d32 = {pick:g} um", num(kg, "kg"), delta=delta, delta_color="inverse")
         st.caption(f"area {num(what['interfacial_area_m2'], 'm²')}, {num(what['dose']['wt_percent'], 'wt%')} "
                    "of the batch")
