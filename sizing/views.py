@@ -258,3 +258,86 @@ def size_curve(case, points: int = 200) -> dict | None:
 def case_copy(data: dict) -> dict:
     """Return a deep copy of a raw case dict (for editing without touching the original)."""
     return copy.deepcopy(data)
+
+
+# ---------------------------------------------------------------------------------------------
+# plan, scale-up and uncertainty (plain data from the engine's own orchestrating functions)
+
+
+def plan_view(case) -> dict:
+    """Return the plan of a case as plain data plus the files ``sizing plan`` would write.
+
+    Returns
+    -------
+    dict
+        ``result`` (result.json as a dict), ``files`` {``report.html``, ``result.json``,
+        ``trial_plan.csv``: text}, ``trial_columns`` and ``trial_rows`` (the CSV as rows).
+    """
+    import csv
+    import io
+    import json
+
+    from .cli.plan import build_outputs
+
+    _, files = build_outputs(case, None)
+    rows = list(csv.reader(io.StringIO(files["trial_plan.csv"])))
+    return {"result": json.loads(files["result.json"]), "files": files,
+            "trial_columns": rows[0] if rows else [], "trial_rows": rows[1:]}
+
+
+def scaleup_view(case) -> dict | None:
+    """Return ``sizing scaleup --json`` of the case, or None when it has no ``[scaleup]`` section."""
+    if getattr(case, "scaleup", None) is None:
+        return None
+    from .scaleup import scaleup_json
+
+    return scaleup_json(case)
+
+
+def uncertainty_view(case, bins: int = 40) -> dict | None:
+    """Return the Monte Carlo of the case for a histogram, or None when nothing carries a spread.
+
+    Returns
+    -------
+    dict or None
+        ``edges_kg`` and ``counts`` (lists), ``p10``, ``p50``, ``p90`` [kg of product],
+        ``summary`` (the result.json ``uncertainty`` block, with the one-at-a-time
+        ``sensitivity`` swings for a tornado chart).
+    """
+    from . import uncertainty
+
+    plant = getattr(case, "scaleup", None) is not None
+    if not case.spreads() and not plant:
+        return None
+    try:
+        mc = uncertainty.monte_carlo(case)
+    except InputError as exc:
+        if any(line.startswith("uncertainty: no input") for line in exc.problems):
+            return None
+        raise
+    h = uncertainty.histogram(mc, bins)
+    summary = uncertainty.uncertainty_json(case, mc)
+    return {"edges_kg": np.asarray(h["edges_kg"], dtype=float).tolist(),
+            "counts": np.asarray(h["counts"], dtype=int).tolist(),
+            "p10": h["p10"], "p50": h["p50"], "p90": h["p90"], "summary": summary}
+
+
+def achievable_view(case, points: int = 121) -> dict:
+    """Return d32 against the dose with the knee, doses in kg of product (one vectorised call).
+
+    Returns
+    -------
+    dict
+        ``kg_product`` and ``d32_m`` [m] (lists), ``limited_by`` (list of 'surfactant' or
+        'homogeniser'), ``knee_kg_product`` [kg], ``knee_d32_m`` [m], ``bulk_loss_kg_product`` [kg].
+    """
+    from .achievable import achievable_curve
+
+    inputs = case_inputs(case)
+    c = achievable_curve(inputs, n_points=points)
+    per_mol = _f(inputs.molar_mass) / _f(inputs.active_fraction)  # kg of product per mol of active
+    return {"kg_product": (np.asarray(c["dose_mol"], dtype=float) * per_mol).tolist(),
+            "d32_m": np.asarray(c["d32_m"], dtype=float).tolist(),
+            "limited_by": np.asarray(c["limited_by"]).tolist(),
+            "knee_kg_product": float(c["knee_dose_mol"]) * per_mol, "knee_d32_m": float(c["knee_d32_m"]),
+            "bulk_loss_kg_product": float(c["bulk_loss_mol"]) * per_mol}

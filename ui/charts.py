@@ -124,18 +124,37 @@ def residuals(df: pd.DataFrame, x: str, y: str, x_title: str, y_title: str, log_
     return (pts + zero).properties(height=160)
 
 
-def histogram(values, title: str, markers: dict[str, float]) -> alt.LayerChart:
-    """Histogram of Monte Carlo samples with percentile markers."""
-    df = pd.DataFrame({"v": values})
-    bars = alt.Chart(df).mark_bar(color="#9ecae1").encode(
-        x=alt.X("v:Q", bin=alt.Bin(maxbins=50), title=title),
-        y=alt.Y("count():Q", title="samples"),
-        tooltip=[alt.Tooltip("count():Q", title="samples")])
+def histogram_from_bins(edges, counts, title: str, markers: dict[str, float]) -> alt.LayerChart:
+    """Histogram from bin edges and counts (Monte Carlo samples) with percentile markers."""
+    df = pd.DataFrame({"lo": edges[:-1], "hi": edges[1:], "n": counts})
+    bars = alt.Chart(df).mark_bar(color="#9ecae1", stroke="#1f5f8b", strokeWidth=0.3).encode(
+        x=alt.X("lo:Q", title=title, scale=alt.Scale(zero=False)), x2="hi:Q",
+        y=alt.Y("n:Q", title="samples [-]"),
+        tooltip=[alt.Tooltip("lo:Q", title="from [kg]", format=".4g"), alt.Tooltip("hi:Q", title="to [kg]", format=".4g"),
+                 alt.Tooltip("n:Q", title="samples")])
     layers = bars
     colors = ["#2ca02c", "#d62728", "#2ca02c", "#555555"]
     for i, (label, v) in enumerate(markers.items()):
-        layers = layers + _rule(v, f"{label} {sig(v, 3)}", colors[i % len(colors)], row=i % 2)
+        layers = layers + _rule(v, f"{label} {sig(v, 3)} kg", colors[i % len(colors)], row=i % 2)
     return layers.properties(height=280)
+
+
+def d32_vs_dose(curve: dict, dose_kg: float | None = None) -> alt.LayerChart:
+    """Drops reached against the dose (log-log), the knee and the case's dose marked."""
+    df = pd.DataFrame({"kg": curve["kg_product"], "d32_um": [d * UM for d in curve["d32_m"]],
+                       "limited_by": curve["limited_by"]})
+    df = df[df["d32_um"].map(math.isfinite)]
+    line = alt.Chart(df).mark_line(strokeWidth=2).encode(
+        x=alt.X("kg:Q", scale=alt.Scale(type="log"), title="dose of product per batch [kg]"),
+        y=alt.Y("d32_um:Q", scale=alt.Scale(type="log"), title="d32 reached [um]"),
+        color=alt.Color("limited_by:N", title="limited by",
+                        scale=alt.Scale(domain=["surfactant", "homogeniser"], range=["#d62728", "#1f5f8b"])),
+        tooltip=[alt.Tooltip("kg:Q", title="product [kg]", format=".4g"),
+                 alt.Tooltip("d32_um:Q", title="d32 [um]", format=".3g"), alt.Tooltip("limited_by:N")])
+    layers = line + _rule(curve["knee_kg_product"], f"knee {sig(curve['knee_kg_product'], 3)} kg", "#555555")
+    if dose_kg is not None and math.isfinite(dose_kg):
+        layers = layers + _rule(dose_kg, f"dose for the target {sig(dose_kg, 3)} kg", "#2ca02c", row=1)
+    return layers.properties(height=300)
 
 
 def tornado(rows: list[dict], x_title: str) -> alt.Chart:

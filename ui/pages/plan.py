@@ -1,12 +1,13 @@
 """Plan: the recommended charge, the trial matrix, the cautions and the downloads."""
 
-import importlib
-import json
 import re
 
+import pandas as pd
 import streamlit as st
 
+from sizing.errors import InputError
 from ui import state
+from ui.charts import MN, num
 
 state.ensure_case()
 st.title("Plan")
@@ -14,19 +15,69 @@ result = state.needs_valid_case()
 slug = re.sub(r"[^a-z0-9]+", "_", str(state.get("case.title") or "case").lower()).strip("_") or "case"
 
 try:
-    plan = importlib.import_module("sizing.plan")
-except ImportError:
+    plan = state.view("plan_view")
+except ImportError:  # pragma: no cover - an engine without the plan
     plan = None
+    st.info("The recommendation, the trial matrix and the report are not available in this version.",
+            icon=":material/info:")
+except InputError as exc:
+    plan = None
+    for line in exc.problems:
+        st.error(line, icon=":material/error:")
 
-if plan is None:
-    st.info("The recommendation, the trial matrix and the HTML report are not available in this version; "
-            "the solve result and the case file can be downloaded.", icon=":material/info:")
-    c1, c2 = st.columns(2)
-    c1.download_button("result.json", data=json.dumps(result["summary"], indent=2), file_name="result.json",
-                       mime="application/json", key="dl_result_json")
-    c2.download_button("case TOML", data=result["toml"], file_name=f"{slug}.toml", mime="application/toml",
-                       key="dl_plan_case")
+if plan is not None:
+    r = plan["result"]
+    rec = r["recommendation"]
+    name = result["case"].surfactant.name
+    if not rec["reaches_target"]:
+        st.warning("**The target is not reachable at equilibrium.** " + r.get("unreachable", "")
+                   + ". The charge below is built on the dose that reaches the CMC ceiling.",
+                   icon=":material/block:")
+        for o in r.get("options", []):
+            st.markdown(f"- {o}")
+    with st.container(border=True):
+        st.subheader("Recommended charge per batch")
+        m = st.columns(4)
+        m[0].metric("Product as delivered", num(rec["kg_product_per_batch"], "kg", 4), help=name)
+        m[1].metric("Active", num(rec["kg_active_per_batch"], "kg", 4),
+                    help=f"{num(rec['mol_per_batch'], 'mol')}")
+        m[2].metric("Of batch mass", num(rec["wt_percent"], "wt%"))
+        m[3].metric("Cost per batch", num(rec["cost_per_batch"], rec["currency"], 4))
+        st.caption(
+            f"Built on {num(rec['base_kg_product'], 'kg')} of product "
+            f"{'for the target' if rec['reaches_target'] else 'at the CMC ceiling'}, margin "
+            f"{num(100 * rec['margin'], '%')}, rounded up to {num(rec['increment_kg'], 'kg')} "
+            f"({rec['increment_source']}). At the charge: coverage {num(rec['coverage_at_charge'], '')}, "
+            f"free monomer {num(rec['free_concentration_at_charge_mol_m3'], 'mM')}"
+            + (f", tension {num(rec['tension_at_charge_N_m'] * MN, 'mN/m')}" if rec["tension_at_charge_N_m"] else "")
+            + ".")
+
+    st.subheader("Trial matrix")
+    st.table(pd.DataFrame(plan["trial_rows"], columns=plan["trial_columns"]).set_index(plan["trial_columns"][0]))
+    if "uncertainty" in r:
+        u = r["uncertainty"]
+        d = u["dose_kg_product"]
+        st.caption(f"Monte Carlo ({u['samples']} samples): dose P10 {num(d['p10'], 'kg')}, P50 {num(d['p50'], 'kg')}, "
+                   f"P90 {num(d['p90'], 'kg')}; the target is met in {num(100 * u['probability_target_met'], '%')} "
+                   "of the draws with the charge.")
+
+    st.subheader("Downloads")
+    files = plan["files"]
+    c = st.columns(4)
+    c[0].download_button("report.html", data=files["report.html"], file_name="report.html", mime="text/html",
+                         key="dl_report", icon=":material/download:")
+    c[1].download_button("result.json", data=files["result.json"], file_name="result.json",
+                         mime="application/json", key="dl_result", icon=":material/download:")
+    c[2].download_button("trial_plan.csv", data=files["trial_plan.csv"], file_name="trial_plan.csv",
+                         mime="text/csv", key="dl_trial", icon=":material/download:")
+    c[3].download_button(f"{slug}.toml", data=result["toml"], file_name=f"{slug}.toml",
+                         mime="application/toml", key="dl_plan_case", icon=":material/download:")
+    st.caption("The same files as `sizing plan CASE.toml --out DIR`; keep any size table or fitted block the "
+               "case names beside the TOML file.")
+    cautions = r.get("cautions") or state.CAUTIONS
+else:
+    cautions = state.CAUTIONS
 
 st.subheader("Cautions")
-for line in state.CAUTIONS:
+for line in cautions:
     st.markdown(f"- {line}")

@@ -1,24 +1,138 @@
 """Scale-up and uncertainty: plant d32 with its band, the Monte Carlo spread, the tornado, the knee."""
 
-import importlib
-
+import pandas as pd
 import streamlit as st
 
-from ui import state
+from sizing.errors import InputError
+from ui import charts, state
+from ui.charts import UM, num
+from ui.state import field
 
 state.ensure_case()
 st.title("Scale-up and uncertainty")
+st.caption("Predict the plant drop size from the lab points or the vessels, see how sure the dose is, "
+           "and what the dose does to the drops when the surfactant runs short.")
+
+# ---- plant conditions -----------------------------------------------------------------------
+TEMPLATE = {"method": "power_law", "variable": "pressure",
+            "points": [{"pressure": "200 bar", "d32": "0.4 um"}, {"pressure": "600 bar", "d32": "0.2 um"}],
+            "plant": "500 bar"}
+VARIABLE_UNIT = {"pressure": "e.g. 500 bar", "energy_density": "e.g. 5e7 J/m**3", "tip_speed": "e.g. 12 m/s"}
+
+data = state.ensure_case()
+with st.container(border=True):
+    st.subheader("Plant conditions")
+    if not isinstance(data.get("scaleup"), dict):
+        st.info("This case has no scale-up section: the drops of the Drops and bubbles page are taken as "
+                "the plant's. Add one to predict the plant d32 from lab points.", icon=":material/info:")
+        if st.button("Add a power-law scale-up from lab points", key="btn_add_scaleup"):
+            data["scaleup"] = dict(TEMPLATE)
+            st.rerun()
+    else:
+        state.show_errors("scaleup")
+        method = data["scaleup"].get("method", "power_law")
+        c1, c2, c3 = st.columns(3)
+        field("scaleup.method", "Method", kind="choice", options=["power_law", "stirred_tank"], where=c1)
+        if method == "power_law":
+            field("scaleup.variable", "Process variable", kind="choice",
+                  options=["pressure", "energy_density", "tip_speed"], where=c2)
+            var = data["scaleup"].get("variable", "pressure")
+            field("scaleup.plant", f"Plant {var.replace('_', ' ')} [{VARIABLE_UNIT.get(var, '')}]", where=c3)
+            field("scaleup.exponent", "Exponent b (empty: fitted from the points) [-]", kind="number",
+                  optional=True, where=c1)
+            pts = data["scaleup"].get("points") or []
+            table = pd.DataFrame([{var: str(p.get(var, "")), "d32": str(p.get("d32", ""))} for p in pts]
+                                 or [{var: "", "d32": ""}])
+            with st.form("form_points"):
+                st.caption(f"Lab points: {var.replace('_', ' ')} and the d32 measured there, with units")
+                edited = st.data_editor(table, num_rows="dynamic", key="editor_points", width="stretch")
+                if st.form_submit_button("Apply the lab points"):
+                    rows = [{var: str(r[var]).strip(), "d32": str(r["d32"]).strip()}
+                            for _, r in edited.iterrows() if str(r[var]).strip() or str(r["d32"]).strip()]
+                    data["scaleup"]["points"] = rows
+                    st.rerun()
+            state.show_errors("scaleup.points")
+        else:
+            field("scaleup.rule", "Scale-up rule", kind="choice",
+                  options=["constant_power_per_volume", "constant_tip_speed", "constant_speed", "given_speed"],
+                  where=c2)
+            field("scaleup.weber_exponent", "Weber exponent [-]", kind="number", optional=True, where=c3)
+            field("scaleup.lab_diameter", "Lab impeller diameter [e.g. 0.06 m]", where=c1)
+            field("scaleup.lab_speed", "Lab speed [e.g. 600 rpm]", where=c2)
+            field("scaleup.plant_diameter", "Plant impeller diameter [e.g. 0.8 m]", where=c3)
+            if data["scaleup"].get("rule") == "given_speed":
+                field("scaleup.plant_speed", "Plant speed [e.g. 120 rpm]", where=c1)
+        if st.button("Remove the scale-up section", key="btn_remove_scaleup"):
+            st.session_state.setdefault(state.STASH, {})["scaleup"] = data.pop("scaleup")
+            for k in [k for k in st.session_state if isinstance(k, str) and k.startswith(state.PREFIX + "scaleup.")]:
+                del st.session_state[k]
+            st.rerun()
+
 result = state.needs_valid_case()
 
+# ---- predicted plant d32 -----------------------------------------------------------------------
+try:
+    sc = state.view("scaleup_view")
+except InputError as exc:
+    st.error(str(exc), icon=":material/error:")
+    sc = None
+if sc is not None:
+    m = st.columns(4)
+    lo, hi = sc["plant_d32_band_m"]
+    m[0].metric("Lab d32", num(sc["lab_d32_m"] * UM, "um"))
+    m[1].metric("Predicted plant d32", num(sc["plant_d32_m"] * UM, "um"),
+                help=f"band {num(lo * UM, '')} to {num(hi * UM, 'um')}: {sc['band_method']}")
+    m[2].metric("Plant d32 band", f"{num(lo * UM, '')}–{num(hi * UM, 'um')}")
+    band = sc.get("dose_band_kg_product")
+    m[3].metric("Dose over the band", f"{num(band[0], '')}–{num(band[1], 'kg')}" if band else "not reachable")
+    st.caption(f"Exponent {num(sc['exponent'], '')} ({sc['exponent_source']}). The dose pages use the plant d32.")
+    for w in sc["warnings"]:
+        st.warning(w, icon=":material/warning:")
 
-def _have(name: str) -> bool:
+# ---- Monte Carlo and tornado ---------------------------------------------------------------------
+left, right = st.columns(2, gap="large")
+with left:
+    st.subheader("Monte Carlo of the dose")
     try:
-        importlib.import_module(name)
-    except ImportError:
-        return False
-    return True
+        mc = state.view("uncertainty_view")
+    except InputError as exc:
+        for line in exc.problems:
+            st.error(line, icon=":material/error:")
+        mc = None
+    if mc is None:
+        st.info("No input carries a spread. Write one in the case file, e.g. "
+                "`d32 = { value = \"2.4 um\", rel_sd = 0.15 }`, or add a scale-up section.",
+                icon=":material/info:")
+    else:
+        u = mc["summary"]
+        chart = charts.histogram_from_bins(mc["edges_kg"], mc["counts"], "dose of product per batch [kg]",
+                                           {"P10": mc["p10"], "P50": mc["p50"], "P90": mc["p90"]})
+        st.altair_chart(chart, width="stretch", key="chart_mc")
+        m = st.columns(4)
+        m[0].metric("P10", num(mc["p10"], "kg"))
+        m[1].metric("P50", num(mc["p50"], "kg"))
+        m[2].metric("P90", num(mc["p90"], "kg"))
+        m[3].metric("Target met with the charge", num(100 * u["probability_target_met"], "%"),
+                    help=f"charge {num(u['charge_kg_product'], 'kg')} covering P{u['percentile']:g} with the margin")
+        st.caption(f"{u['samples']} samples, seed {u['seed']}; {u['sampling']}. "
+                   f"Unreachable draws: {num(100 * u['infeasible_fraction'], '%')}.")
+with right:
+    st.subheader("What moves the dose (tornado)")
+    if mc is not None and mc["summary"].get("sensitivity"):
+        rows = [{"input": e["path"], "low": e["dose_low_kg"], "high": e["dose_high_kg"]}
+                for e in mc["summary"]["sensitivity"]]
+        st.altair_chart(charts.tornado(rows, "dose of product per batch [kg] with the input at P10 and P90"),
+                        width="stretch", key="chart_tornado")
+        st.caption("Each bar: the dose with one input at its P10 and P90 (or low and high), the others at "
+                   "their values.")
+    else:
+        st.info("The tornado needs inputs with spreads.", icon=":material/info:")
 
-
-if not (_have("sizing.scaleup") or _have("sizing.uncertainty") or _have("sizing.achievable")):
-    st.info("Scale-up, uncertainty and the achievable-d32 knee are not available in this version.",
-            icon=":material/info:")
+# ---- d32 against dose with the knee ---------------------------------------------------------------
+st.subheader("Drops reached against the dose (surfactant-poor regime)")
+ach = state.view("achievable_view")
+st.altair_chart(charts.d32_vs_dose(ach, result["summary"]["dose"] and result["summary"]["dose"]["kg_product"]),
+                width="stretch", key="chart_knee")
+st.caption(f"Below the knee ({num(ach['knee_kg_product'], 'kg')} of product) the surfactant, not the homogeniser, "
+           f"limits the drops: d32 = 6 s V_d Gamma_inf theta / (N − bulk losses). Bulk losses "
+           f"{num(ach['bulk_loss_kg_product'], 'kg')} of product.")
