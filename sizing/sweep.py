@@ -50,7 +50,7 @@ class Variation:
 
     @property
     def header(self) -> str:
-        return f"{self.name} [{self.unit or '-'}]"
+        return f"{self.path.split('.')[-1]} [{self.unit or '-'}]"
 
 
 def _dimension(case, path: str) -> str:
@@ -164,8 +164,8 @@ def sweep(case, specs: list[str]):
         "dose [mol]": col(sol.dose_mol),
         "product [wt% of batch]": col(sol.wt_percent),
         "free monomer [mM]": col(sol.state.free_concentration),
-        "coverage [-]": col(sol.state.coverage),
-        "tension [mN/m]": col(sol.tension) * 1e3,
+        "equilibrium coverage [-]": col(sol.state.coverage),
+        "equilibrium tension [mN/m]": col(sol.tension) * 1e3,
         "max coverage [-]": col(sol.max_coverage),
         "interfacial area [m**2]": col(sol.area),
     })

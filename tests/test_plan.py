@@ -1,0 +1,182 @@
+"""The recommendation, the trial matrix and `sizing plan` outputs (sizing.plan, sizing.cli.plan)."""
+
+from __future__ import annotations
+
+import csv
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from sizing import model
+from sizing.case import case_with, load_case, loads_case
+from sizing.cli import main
+from sizing.plan import build_plan, charge_for_dose, plan_json
+
+ROOT = Path(__file__).resolve().parents[1]
+LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"
+
+
+@pytest.fixture(scope="module")
+def lotion():
+    case = load_case(LOTION)
+    return case, build_plan(case, LOTION)
+
+
+def test_charge_rule_and_engine_agreement(lotion):
+    case, plan = lotion
+    sol = model.solve_case(case)
+    r = plan.recommendation
+    # charge = increment * ceil(dose (1 + margin) / increment), dose from a direct engine call
+    expected = 0.5 * math.ceil(float(sol.kg_product) * 1.15 / 0.5)
+    assert r.kg_product_per_batch == pytest.approx(expected, rel=1e-12)
+    assert r.base_kg_product == pytest.approx(float(sol.kg_product), rel=1e-12)
+    assert r.kg_active_per_batch == pytest.approx(expected * 0.30, rel=1e-12)
+    # the state at the charge is the forward solve of that dose
+    fwd = model.solve_case(case, dose=r.mol_per_batch)
+    assert r.coverage_at_charge == pytest.approx(float(fwd.state.coverage), rel=1e-12)
+    assert r.free_concentration_at_charge == pytest.approx(float(fwd.state.free_concentration), rel=1e-12)
+    assert r.wt_percent == pytest.approx(float(fwd.wt_percent), rel=1e-12)
+    assert r.cost_per_batch == pytest.approx(expected * 1.8, rel=1e-12)
+    assert r.coverage_at_charge > plan.target_coverage
+
+
+def test_charge_for_dose_arrays_and_float_noise():
+    got = charge_for_dose(np.array([10.0, 10.0000001, 0.0]), 0.15, 0.5)
+    assert got.tolist() == [11.5, 12.0, 0.5]
+
+
+def test_trial_levels_are_forward_solves_with_micelles_above_cmc(lotion):
+    case, plan = lotion
+    assert [t.level for t in plan.trial] == case.trial.levels
+    for t in plan.trial:
+        fwd = model.solve_case(case, dose=t.mol)
+        assert t.coverage == pytest.approx(float(fwd.state.coverage), rel=1e-12)
+        assert t.kg_product == pytest.approx(float(fwd.kg_product), rel=1e-12)
+        # mass conservation of the solved state, 1e-9 relative (DESIGN.md quality bar)
+        assert float(fwd.state.total_mol) == pytest.approx(t.mol, rel=1e-9)
+        assert t.measure and any("drop size" in m for m in t.measure)
+    top = plan.trial[-1]
+    assert top.micelle_share > 0
+    assert top.free_concentration == pytest.approx(8.2, rel=1e-12)  # capped at the CMC
+
+
+def test_reference_surfactant_poor_example():
+    # REFERENCES.md, surfactant-poor regime [D] (Tcholakova et al. 2003 / Walstra): Gamma* = 2 mg/m2,
+    # phi = 0.2, d32 = 1 um needs 3.00 kg/m3 of continuous phase.  Zero bulk loss: K huge, no CMC,
+    # P = 0; Gamma_inf 4 mg/m2 at coverage 0.5 gives Gamma* = 2 mg/m2.  Tolerance 1e-9 relative.
+    text = """
+[case]
+title = "surfactant-poor check"
+system = "emulsion"
+[batch]
+volume = "1 m**3"
+dispersed_fraction = 0.2
+continuous_density = "1000 kg/m**3"
+dispersed_density = "900 kg/m**3"
+[drops]
+d32 = "1 um"
+[surfactant]
+molar_mass = "1 kg/mol"
+max_surface_excess = "4 mg/m**2"
+adsorption_constant = "1e15 m**3/mol"
+[target]
+coverage = 0.5
+margin = 0.0
+[recommendation]
+increment = "0.001 kg"
+"""
+    plan = build_plan(loads_case(text))
+    j = plan.solve_json
+    # area identity 6 phi / d32 per m3 of dispersion (REFERENCES.md [D]): 1.2e6 m2/m3
+    assert j["interfacial_area_m2"] == pytest.approx(1.2e6, rel=1e-12)
+    assert j["dose"]["kg_active"] / 0.8 == pytest.approx(3.00, rel=1e-9)
+    assert plan.recommendation.kg_active_per_batch == pytest.approx(2.4, rel=1e-9)
+
+
+def test_unreachable_target_plan(lotion):
+    case, _ = lotion
+    hard = case_with(case, {"target.coverage": 0.95})  # CMC allows 0.9077
+    plan = build_plan(hard)
+    assert not plan.feasible
+    j = plan_json(plan)
+    assert j["feasible"] is False and j["dose"] is None
+    r = j["recommendation"]
+    assert r["basis"] == "cmc_ceiling" and r["reaches_target"] is False
+    assert r["base_kg_product"] == pytest.approx(plan.curves.ceiling_kg_product, rel=1e-12)
+    assert r["kg_product_per_batch"] >= r["base_kg_product"] * 1.15 * (1 - 1e-12)
+    assert r["coverage_at_charge"] == pytest.approx(j["max_coverage"], rel=1e-12)
+    assert any("Accept a lower coverage" in o for o in j["options"])
+    assert any("another surfactant" in o for o in j["options"])
+    assert any("larger drops" in o for o in j["options"])
+    assert len(j["trial"]) == 3
+
+
+def test_result_json_keys(lotion):
+    _, plan = lotion
+    j = json.loads(json.dumps(plan_json(plan)))
+    for key in ("feasible", "max_coverage", "d32_m", "interfacial_area_m2", "dose", "state", "split_mol",
+                "recommendation", "trial", "cautions", "assumptions"):
+        assert key in j
+    for key in ("kg_product_per_batch", "kg_active_per_batch", "mol_per_batch", "wt_percent",
+                "percent_on_dispersed", "cost_per_batch", "currency", "margin", "increment_kg",
+                "coverage_at_charge"):
+        assert key in j["recommendation"]
+    for t in j["trial"]:
+        for key in ("level", "kg_product", "kg_active", "coverage", "free_concentration_mol_m3",
+                    "tension_N_m", "micelle_share", "measure"):
+            assert key in t
+    assert any("safety data sheet" in c for c in j["cautions"])
+    assert any("local codes" in c for c in j["cautions"])
+
+
+def test_extras_are_merged_into_result_json(lotion):
+    _, plan = lotion
+    plan.extras["uncertainty"] = {"samples": 10}
+    try:
+        assert plan_json(plan)["uncertainty"] == {"samples": 10}
+    finally:
+        plan.extras.clear()
+
+
+def test_cli_plan_writes_three_files(tmp_path, capsys):
+    out = tmp_path / "lotion"
+    assert main(["plan", str(LOTION), "--out", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "recommended charge     13.5 kg" in text and "wrote" in text
+    j = json.loads((out / "result.json").read_text())
+    rows = list(csv.reader((out / "trial_plan.csv").open()))
+    assert len(rows) == 1 + len(j["trial"])
+    assert rows[0][1] == "product [kg/batch]"
+    assert [float(r[1]) for r in rows[1:]] == pytest.approx([t["kg_product"] for t in j["trial"]], rel=1e-6)
+    assert (out / "report.html").read_text().startswith("<!DOCTYPE html>")
+
+
+def test_cli_plan_without_case_plans_the_builtin_demo(tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    assert main(["plan"]) == 0
+    assert (tmp_path / "demo_plan" / "report.html").is_file()
+    j = json.loads((tmp_path / "demo_plan" / "result.json").read_text())
+    assert j["recommendation"]["kg_product_per_batch"] > 0
+
+
+def test_failed_plan_leaves_the_previous_report_byte_identical(tmp_path, monkeypatch, capsys):
+    out = tmp_path / "p"
+    assert main(["plan", str(LOTION), "--out", str(out)]) == 0
+    before = {n: (out / n).read_bytes() for n in ("report.html", "result.json", "trial_plan.csv")}
+    bad = tmp_path / "bad.toml"
+    bad.write_text(LOTION.read_text().replace("coverage = 0.85", "coverage = 1.85"))
+    assert main(["plan", str(bad), "--out", str(out)]) == 2
+    import sizing.report
+
+    def boom(plan, sections=None):
+        raise RuntimeError("report writer failed")
+
+    monkeypatch.setattr(sizing.report, "render", boom)
+    with pytest.raises(RuntimeError):
+        main(["plan", str(LOTION), "--out", str(out)])
+    after = {n: (out / n).read_bytes() for n in before}
+    assert after == before
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["bad.toml", "p"]  # no temp folder left
