@@ -109,8 +109,11 @@ def _plant_d32_spread(case):
 
 def _check_used(case, spreads: dict) -> None:
     problems = []
-    for path in spreads:
-        if path in NOT_IN_DOSE:
+    for path, v in spreads.items():
+        if v.spread[0] == "lognormal" and not v.si > 0:
+            problems.append(f"{path}: a log-normal spread (rel_sd) needs a value > 0, got {v.raw!r}; "
+                            "give low and high for a uniform spread instead")
+        elif path in NOT_IN_DOSE:
             problems.append(f"{path}: carries a spread but does not change the dose ({NOT_IN_DOSE[path]}); "
                             "remove the spread")
         elif path == "drops.d32" and getattr(case, "scaleup", None) is not None \
@@ -181,6 +184,13 @@ def monte_carlo(case, samples: int | None = None, seed: int | None = None) -> Mo
     InputError
         No spreads at all; a spread on a field that does not enter the dose; a log-normal
         spread on a value <= 0; draws that leave a field's allowed range.
+
+    Examples
+    --------
+    >>> from sizing.case import load_case
+    >>> mc = monte_carlo(load_case(DEMO_CASE), samples=2000, seed=1)
+    >>> mc.samples, mc.dose_kg_product.shape
+    (2000, (2000,))
     """
     from .model import case_inputs, solve
 
@@ -193,6 +203,8 @@ def monte_carlo(case, samples: int | None = None, seed: int | None = None) -> Mo
     spreads = case.spreads()
     _check_used(case, spreads)
     plant = _plant_d32_spread(case)
+    if spreads:
+        sensitivity(case)  # refuses spreads that move nothing (one small solve)
     if not spreads and plant is None:
         raise InputError(
             "uncertainty: no input carries a spread; write e.g. d32 = { value = '2.4 um', rel_sd = 0.15 } "
@@ -266,7 +278,7 @@ def sensitivity(case) -> list[dict]:
         arr[4 * j:4 * j + 4] = [lo, hi, x0 * (1 - h), x0 * (1 + h)]
         overrides[path] = arr
     sol = solve(case_inputs(case, overrides))
-    kg = np.where(np.asarray(sol.feasible), np.asarray(sol.kg_product, dtype=float), np.nan)
+    kg = np.broadcast_to(np.where(np.asarray(sol.feasible), np.asarray(sol.kg_product, dtype=float), np.nan), (m,))
     out, problems = [], []
     for j, (path, x0, lo, hi) in enumerate(entries):
         d_lo, d_hi, d_m, d_p = kg[4 * j:4 * j + 4]
@@ -292,8 +304,8 @@ def _other_output_changes(case, path, lo, hi) -> bool:
     from .model import case_inputs, solve
 
     sol = solve(case_inputs(case, {path: np.array([lo, hi])}))
-    for arr in (sol.wt_percent, sol.cost, sol.percent_on_dispersed, sol.tension):
-        a = np.asarray(arr, dtype=float)
+    for arr in (sol.wt_percent, sol.cost, sol.percent_on_dispersed):
+        a = np.broadcast_to(np.asarray(arr, dtype=float), (2,))
         if np.all(np.isfinite(a)) and not np.isclose(a[0], a[1], rtol=1e-12, atol=0):
             return True
     return False
