@@ -88,7 +88,7 @@ def _tension_tab() -> None:
         n = c2.number_input("Gibbs prefactor n [-]", min_value=1.0, max_value=3.0, value=1.0, step=1.0,
                             key="fit_t_n")
         model = c3.selectbox("Isotherm", ["best by AICc", "langmuir", "frumkin", "volmer"], key="fit_t_model")
-        go = st.form_submit_button("Fit the tension series", disabled=path is None)
+        go = st.form_submit_button("Fit the tension series", disabled=path is None, key="btn_fit_tension")
     if go and path:
         from sizing.units import parse
 
