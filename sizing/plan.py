@@ -410,6 +410,12 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     else:
         ceiling_kg = math.nan
     base_kg = _f(target_sol.kg_product) if feasible else ceiling_kg
+    # with spreads the charge covers the chosen percentile of the Monte Carlo (sizing.whatif)
+    from . import whatif
+
+    mc = whatif.plan_monte_carlo(case) if feasible else None
+    if mc is not None and math.isfinite(float(mc.quantile_kg_product(mc.percentile))):
+        base_kg = float(mc.quantile_kg_product(mc.percentile))
     margin = _f(inputs.margin)
     inc_value = case.recommendation.increment
     if inc_value is not None:
@@ -461,12 +467,14 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
         d32_charge_kg_product=np.asarray(charge_for_dose(d32_dose, margin, increment)),
     )
     opts = () if feasible else options_when_unreachable(case, inputs, _f(target_sol.max_coverage))
-    return Plan(
+    plan = Plan(
         case=case, inputs=inputs, solution=target_sol, solve_json=solve_json, feasible=feasible,
         target_coverage=_f(target_theta), recommendation=rec, trial=trial, curves=curves,
         assumptions=assumptions(case, inputs), model_assumptions=MODEL_ASSUMPTIONS, cautions=CAUTIONS,
         options=opts, case_notes=case_notes(source), source=str(source) if source is not None else "",
     )
+    whatif.attach(plan, mc)
+    return plan
 
 
 # ---------------------------------------------------------------------------------------------
@@ -513,6 +521,8 @@ def plan_json(plan: Plan) -> dict:
     out = dict(plan.solve_json)
     out["recommendation"] = recommendation_json(plan.recommendation)
     out["trial"] = trial_json(plan.trial)
+    for row, extra in zip(out["trial"], plan.extras.get("trial_levels", ())):
+        row.update(extra)  # achievable d32 per level (sizing.whatif)
     out["target_coverage"] = _num(plan.target_coverage)
     out["ceiling_kg_product"] = _num(plan.curves.ceiling_kg_product)
     out["assumptions"] = [dict(a) for a in plan.assumptions] + [

@@ -138,7 +138,8 @@ def render_summary(plan) -> str:
                  'dose that just reaches the CMC ceiling; see "Target not reachable" below.</p>')
     rows = [
         ("target", target + f" (margin {r.margin * 100:.3g} %)"),
-        ("dose for the target (before margin)" if plan.feasible else "dose at the CMC ceiling",
+        (("dose covering the chosen percentile of the spreads (before margin)" if "uncertainty" in plan.extras
+          else "dose for the target (before margin)") if plan.feasible else "dose at the CMC ceiling",
          q(r.base_kg_product, "kg product")),
         ("recommended charge", q(r.kg_product_per_batch, "kg product per batch")),
         ("of which active", f"{q(r.kg_active_per_batch, 'kg')} ({q(r.mol_per_batch, 'mol')})"),
@@ -374,6 +375,10 @@ def render_cautions(plan) -> str:
 #: The report's sections, in order.  Append or insert renderers ``(plan) -> str``.
 SECTIONS = [render_summary, render_case, render_split, render_coverage_chart, render_d32_chart,
             render_trial, render_unreachable, render_assumptions, render_cautions]
+# scale-up, achievable d32, uncertainty and adsorption speed (sizing.whatif), after the trial matrix
+from .whatif import SECTIONS as _WHATIF  # noqa: E402
+
+SECTIONS[SECTIONS.index(render_trial) + 1:SECTIONS.index(render_trial) + 1] = list(_WHATIF)
 
 
 def render(plan, sections=None) -> str:

@@ -1,5 +1,6 @@
 """Monte Carlo through the vectorised balance, sensitivity, and bad spreads (sizing.uncertainty)."""
 
+import json
 import math
 from pathlib import Path
 
@@ -169,3 +170,26 @@ def test_spreads_the_model_cannot_use_are_refused():
 def test_bench_hook_returns_a_median():
     out = bench_monte_carlo(repeats=1, samples=2000)  # timing is reported, never asserted
     assert out["median_s"] > 0 and out["samples"] == 2000 and out["spreads"]
+
+
+def test_plan_covers_the_percentile_and_reports_it():
+    # result.json contract (DESIGN.md): uncertainty {samples, dose_kg_product {p10, p50, p90},
+    # probability_target_met}; the charge covers P90 with the margin; the report says so
+    from sizing.cli.plan import build_outputs
+
+    case = load_case(HPH)
+    plan, files = build_outputs(case, HPH)
+    j = json.loads(files["result.json"])
+    u = j["uncertainty"]
+    assert u["samples"] == 100_000 and set(u["dose_kg_product"]) >= {"p10", "p50", "p90"}
+    assert 0.9 <= u["probability_target_met"] <= 1.0
+    r = j["recommendation"]
+    assert r["kg_product_per_batch"] >= u["dose_kg_product"]["p90"] * (1 + r["margin"])
+    assert r["base_kg_product"] == pytest.approx(u["dose_kg_product_at_percentile"], rel=1e-12)
+    assert all("achievable_d32_m" in t and t["limited_by"] in ("surfactant", "homogeniser") for t in j["trial"])
+    assert j["scaleup"]["plant_d32_m"] == pytest.approx(j["d32_m"], rel=1e-12)
+    assert j["adsorption"]["optimistic"] is True
+    html = files["report.html"]
+    for sid in ("scaleup", "achievable", "uncertainty", "adsorption"):
+        assert f'<section id="{sid}">' in html
+    assert "covers the 90th percentile" in html
