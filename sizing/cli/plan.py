@@ -87,7 +87,7 @@ def describe(plan) -> str:
         f"  recommended charge     {u(r.kg_product_per_batch, 'kg')} of {plan.case.surfactant.name} per batch",
         f"  active                 {u(r.kg_active_per_batch, 'kg')} ({u(r.mol_per_batch, 'mol')})",
         f"  built on               {u(r.base_kg_product, 'kg')} product"
-        f" {'for the target' if plan.feasible else 'at the CMC ceiling'}, margin {r.margin * 100:.3g} %, "
+        f" {'at the CMC ceiling' if not plan.feasible else ('covering P%g of the spreads' % plan.extras['uncertainty']['json']['percentile']) if 'uncertainty' in plan.extras else 'for the target'}, margin {r.margin * 100:.3g} %, "
         f"rounded up to {u(r.increment_kg, 'kg')}",
         f"  of batch mass          {u(r.wt_percent, 'wt% (product)')}",
         f"  on dispersed phase     {u(r.percent_on_dispersed, '% by mass (product)')}",
