@@ -6,6 +6,7 @@ import math
 
 import altair as alt
 import pandas as pd
+import streamlit as st
 
 from sizing.units import sig
 
@@ -164,3 +165,18 @@ def tornado(rows: list[dict], x_title: str) -> alt.Chart:
         y=alt.Y("input:N", sort=None, title=None), x=alt.X("low:Q", title=x_title), x2="high:Q",
         tooltip=[alt.Tooltip("input:N"), alt.Tooltip("low:Q", format=".3g"), alt.Tooltip("high:Q", format=".3g")],
     ).properties(height=max(120, 28 * len(df)))
+
+
+@st.cache_data(max_entries=512, show_spinner=False)
+def _spec(name: str, args: tuple) -> dict:
+    """Return the Vega-Lite spec (plain data) of one of this module's altair charts."""
+    return globals()[name](*args).to_dict()
+
+
+def draw(name: str, *args, key: str) -> None:
+    """Draw the altair chart built by ``charts.<name>(*args)``, its spec cached across reruns.
+
+    Building an altair chart and validating its spec costs tens of milliseconds per chart;
+    the spec is plain data, so it is cached on the chart's inputs.
+    """
+    st.vega_lite_chart(_spec(name, args), width="stretch", key=key)

@@ -12,12 +12,30 @@ from __future__ import annotations
 import sys
 
 
+def warm_up() -> None:
+    """Import the engine, the chart library and the unit registry before the first visitor.
+
+    The first page of the first session otherwise pays for these imports (about 1.5 s).
+    """
+    import altair  # noqa: F401
+    import pandas  # noqa: F401
+
+    from sizing import model, units, views  # noqa: F401
+
+    units.registry()
+    data, folder = views.load_demo()
+    from sizing.case import parse_case
+
+    views.summary(parse_case(data, folder))
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run ``streamlit <argv>`` in this process (``argv`` as for the ``streamlit`` command)."""
     from streamlit.runtime.pages_manager import PagesManager
     from streamlit.web import cli
 
     PagesManager.uses_pages_directory = False  # the entry calls st.navigation itself
+    warm_up()
     sys.argv = ["streamlit", *(sys.argv[1:] if argv is None else argv)]
     return cli.main(prog_name="streamlit")
 

@@ -59,13 +59,13 @@ left, right = st.columns(2, gap="large")
 with left:
     st.subheader("Where the dose goes")
     rows = state.view("dose_split")
-    st.altair_chart(charts.dose_split(rows), width="stretch", key="chart_split")
+    charts.draw("dose_split", rows, key="chart_split")
     st.table(pd.DataFrame(
         [{"where": r["place"], "active [kg]": num(r["kg_active"], "", 4), "amount [mol]": num(r["mol"], "", 4),
           "share [%]": f"{r['percent']:.1f}"} for r in rows]).set_index("where"))
 with right:
     st.subheader("Dose against coverage")
-    st.altair_chart(charts.dose_vs_coverage(state.view("dose_vs_coverage")), width="stretch", key="chart_cov")
+    charts.draw("dose_vs_coverage", state.view("dose_vs_coverage"), key="chart_cov")
     st.caption("Above the CMC ceiling no dose raises the coverage: extra surfactant forms micelles.")
 
 # ---- dose against d32 with a what-if slider -------------------------------------------------
@@ -93,6 +93,6 @@ with c2:
         kg = math.nan
         st.metric(f"Product at d32 = {pick:g} um", "not reachable")
 with c1:
-    st.altair_chart(charts.dose_vs_d32(curve, pick / UM, kg), width="stretch", key="chart_d32")
+    charts.draw("dose_vs_d32", curve, pick / UM, kg, key="chart_d32")
 st.caption("Smaller drops mean more interface to cover: the dose climbs towards the interface term as d32 "
            "falls. Equilibrium estimate; confirm by trial.")

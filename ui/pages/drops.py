@@ -89,7 +89,7 @@ with right:
         st.info("d32 is given directly: there is no distribution to plot. Choose a log-normal, RRSB or "
                 "measured description to see one.", icon=":material/info:")
     else:
-        st.altair_chart(charts.size_distribution(curve), width="stretch", key="chart_sizes")
+        charts.draw("size_distribution", curve, key="chart_sizes")
     a = s["area"]
     st.subheader("Interfacial area")
     m = st.columns(4)

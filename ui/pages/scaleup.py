@@ -105,9 +105,8 @@ with left:
                 icon=":material/info:")
     else:
         u = mc["summary"]
-        chart = charts.histogram_from_bins(mc["edges_kg"], mc["counts"], "dose of product per batch [kg]",
-                                           {"P10": mc["p10"], "P50": mc["p50"], "P90": mc["p90"]})
-        st.altair_chart(chart, width="stretch", key="chart_mc")
+        charts.draw("histogram_from_bins", mc["edges_kg"], mc["counts"], "dose of product per batch [kg]",
+                    {"P10": mc["p10"], "P50": mc["p50"], "P90": mc["p90"]}, key="chart_mc")
         m = st.columns(4)
         m[0].metric("P10", num(mc["p10"], "kg"))
         m[1].metric("P50", num(mc["p50"], "kg"))
@@ -121,8 +120,8 @@ with right:
     if mc is not None and mc["summary"].get("sensitivity"):
         rows = [{"input": e["path"], "low": e["dose_low_kg"], "high": e["dose_high_kg"]}
                 for e in mc["summary"]["sensitivity"]]
-        st.altair_chart(charts.tornado(rows, "dose of product per batch [kg] with the input at P10 and P90"),
-                        width="stretch", key="chart_tornado")
+        charts.draw("tornado", rows, "dose of product per batch [kg] with the input at P10 and P90",
+                    key="chart_tornado")
         st.caption("Each bar: the dose with one input at its P10 and P90 (or low and high), the others at "
                    "their values.")
     else:
@@ -131,8 +130,8 @@ with right:
 # ---- d32 against dose with the knee ---------------------------------------------------------------
 st.subheader("Drops reached against the dose (surfactant-poor regime)")
 ach = state.view("achievable_view")
-st.altair_chart(charts.d32_vs_dose(ach, result["summary"]["dose"] and result["summary"]["dose"]["kg_product"]),
-                width="stretch", key="chart_knee")
+charts.draw("d32_vs_dose", ach, result["summary"]["dose"] and result["summary"]["dose"]["kg_product"],
+            key="chart_knee")
 st.caption(f"Below the knee ({num(ach['knee_kg_product'], 'kg')} of product) the surfactant, not the homogeniser, "
            f"limits the drops: d32 = 6 s V_d Gamma_inf theta / (N − bulk losses). Bulk losses "
            f"{num(ach['bulk_loss_kg_product'], 'kg')} of product.")
