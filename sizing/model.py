@@ -370,6 +370,26 @@ def split_by_phase(sol: Solution) -> dict:
     return out
 
 
+def tension_warnings(inputs: Inputs, tension, where: str = "the solved state") -> list[str]:
+    """Return warnings when the equation of state gives a tension below zero (unphysical).
+
+    A negative tension means the isotherm's pressure ``n R T Gamma_inf f(theta)`` exceeds the
+    clean tension: the parameters (max_surface_excess, gibbs_prefactor, clean_tension) do not
+    belong together at that coverage, so tension outputs there are not to be trusted.
+    """
+    t = np.asarray(tension, dtype=float)
+    bad = np.isfinite(t) & (t < 0)
+    if not np.any(bad):
+        return []
+    return [
+        f"the equation of state gives a negative tension ({float(np.min(t[bad])) * 1e3:.3g} mN/m) at "
+        f"{where}: the surface pressure exceeds the clean tension "
+        f"({float(np.max(np.asarray(inputs.clean_tension))) * 1e3:.3g} mN/m), which is unphysical; check "
+        "surfactant.clean_tension, surfactant.gibbs_prefactor and surfactant.max_surface_excess "
+        "(tension outputs there are not reliable; the dose balance itself does not use them)"
+    ]
+
+
 def solution_json(sol: Solution, case=None) -> dict:
     """Return the ``sizing solve --json`` object of a scalar solution (the fixed contract)."""
     i = sol.inputs
@@ -429,6 +449,7 @@ def solution_json(sol: Solution, case=None) -> dict:
             "active_fraction": _num(i.active_fraction),
         },
     }
+    out["warnings"] = tension_warnings(i, sol.tension)
     if not feasible:
         out["unreachable"] = (
             f"the target needs a free concentration above the CMC; at equilibrium the coverage "

@@ -516,6 +516,17 @@ def trial_json(trial) -> list[dict]:
     } for t in trial]
 
 
+def plan_warnings(plan: Plan) -> list[str]:
+    """Return the engine's warnings for the target state, the charge and the trial levels."""
+    out = list(plan.solve_json.get("warnings", []))
+    tensions = [plan.recommendation.tension_at_charge] + [t.tension for t in plan.trial]
+    inputs = model.case_inputs(plan.case)
+    for w in model.tension_warnings(inputs, np.array(tensions, dtype=float), "the charge or a trial level"):
+        if w not in out:
+            out.append(w)
+    return out
+
+
 def plan_json(plan: Plan) -> dict:
     """Return result.json: :func:`sizing.model.solution_json` keys plus the plan's own keys."""
     out = dict(plan.solve_json)
@@ -528,6 +539,7 @@ def plan_json(plan: Plan) -> dict:
     out["assumptions"] = [dict(a) for a in plan.assumptions] + [
         {"path": None, "label": "model", "value": text, "source": "model"} for text in plan.model_assumptions]
     out["cautions"] = list(plan.cautions)
+    out["warnings"] = plan_warnings(plan)
     if not plan.feasible:
         out["options"] = list(plan.options)
     for key, value in plan.extras.items():

@@ -154,6 +154,10 @@ def render_summary(plan) -> str:
         ("tension at the charge", q(r.tension_at_charge, "mN/m", scale=1e3)),
         ("micelles at the charge", q(100 * r.micelle_share_at_charge, "% of the charge")),
     ]
+    from .plan import plan_warnings
+
+    for w in plan_warnings(plan):
+        lead += f'<p class="warn"><b>Check:</b> {esc(w)}</p>'
     return section("recommendation", "Recommendation", lead + table(rows))
 
 

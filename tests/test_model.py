@@ -147,3 +147,17 @@ def test_bad_case_exits_nonzero_with_one_line_per_problem(capsys, tmp_path):
 def test_unknown_override_is_refused():
     with pytest.raises(InputError, match="drops.d99: not a numeric field"):
         case_inputs(load_case(LOTION), {"drops.d99": 1.0})
+
+
+def test_negative_tension_is_flagged_not_hidden(capsys):
+    # A pressure n R T Gamma_inf ln(1/(1 - theta)) above the clean tension is unphysical (the
+    # tension of an interface cannot be negative; common practice): solve and plan say so.
+    from sizing.plan import build_plan, plan_json
+
+    bad = case_with(load_case(LOTION), {"surfactant.clean_tension": "12 mN/m"})
+    sol = solve_case(bad)
+    assert float(sol.tension) < 0
+    warnings = solution_json(sol, bad)["warnings"]
+    assert len(warnings) == 1 and "negative tension" in warnings[0]
+    assert any("trial level" in w for w in plan_json(build_plan(bad))["warnings"])
+    assert solution_json(solve_case(load_case(LOTION)), None)["warnings"] == []

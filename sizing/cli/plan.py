@@ -120,6 +120,10 @@ def run(args) -> int:
     plan, files = build_outputs(case, source)
     written = write_outputs(out_dir, files)
     print(describe(plan))
+    from ..plan import plan_warnings
+
+    for w in plan_warnings(plan):
+        print(f"warning: {w}")
     print()
     for p in written:
         print(f"wrote {p}")

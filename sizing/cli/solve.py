@@ -57,6 +57,7 @@ def describe(out: dict) -> str:
     total = sum(v for v in split.values() if v) or 1.0
     text.append(table([(k, f"{_fmt(v, 'mol')}  ({100 * (v or 0) / total:.1f} %)") for k, v in split.items()],
                       "where the surfactant is"))
+    text += [f"warning: {w}" for w in out.get("warnings", [])]
     return "\n\n".join(text)
 
 
