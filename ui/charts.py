@@ -130,7 +130,7 @@ def histogram_from_bins(edges, counts, title: str, markers: dict[str, float]) ->
     df = pd.DataFrame({"lo": edges[:-1], "hi": edges[1:], "n": counts})
     bars = alt.Chart(df).mark_bar(color="#9ecae1", stroke="#1f5f8b", strokeWidth=0.3).encode(
         x=alt.X("lo:Q", title=title, scale=alt.Scale(zero=False)), x2="hi:Q",
-        y=alt.Y("n:Q", title="samples [-]"),
+        y=alt.Y("n:Q", title="samples [-]"), y2=alt.datum(0),
         tooltip=[alt.Tooltip("lo:Q", title="from [kg]", format=".4g"), alt.Tooltip("hi:Q", title="to [kg]", format=".4g"),
                  alt.Tooltip("n:Q", title="samples")])
     layers = bars
@@ -162,7 +162,8 @@ def tornado(rows: list[dict], x_title: str) -> alt.Chart:
     """Tornado bars: rows ``{"input", "low", "high"}`` as the change of the output."""
     df = pd.DataFrame(rows)
     return alt.Chart(df).mark_bar(color="#1f5f8b").encode(
-        y=alt.Y("input:N", sort=None, title=None), x=alt.X("low:Q", title=x_title), x2="high:Q",
+        y=alt.Y("input:N", sort=None, title=None, axis=alt.Axis(labelLimit=260)),
+        x=alt.X("low:Q", title=x_title, scale=alt.Scale(zero=False)), x2="high:Q",
         tooltip=[alt.Tooltip("input:N"), alt.Tooltip("low:Q", format=".3g"), alt.Tooltip("high:Q", format=".3g")],
     ).properties(height=max(120, 28 * len(df)))
 

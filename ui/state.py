@@ -281,7 +281,8 @@ def sidebar_status() -> None:
     result = check()
     data = ensure_case()
     with st.sidebar:
-        st.markdown(f"**{data.get('case', {}).get('title', 'untitled case')}**")
+        title = str(data.get("case", {}).get("title", "untitled case"))
+        st.markdown("**" + "".join("\\" + ch if ch in "*_`[]<>#" else ch for ch in title) + "**")
         st.caption(f"from: {st.session_state.get(SOURCE, 'demo case')}")
         if result["problems"]:
             st.error(f"{len(result['problems'])} problem(s) in the case", icon=":material/error:")

@@ -53,7 +53,16 @@ if plan is not None:
             + ".")
 
     st.subheader("Trial matrix")
-    st.table(pd.DataFrame(plan["trial_rows"], columns=plan["trial_columns"]).set_index(plan["trial_columns"][0]))
+    rows = [{"level [× charge]": f"{t['level']:g}", "product [kg/batch]": num(t["kg_product"], "", 4),
+             "active [kg/batch]": num(t["kg_active"], "", 4), "product [wt% of batch]": num(t["wt_percent"], ""),
+             "coverage [-]": num(t["coverage"], ""), "free monomer [mM]": num(t["free_concentration_mol_m3"], ""),
+             "tension [mN/m]": num(t["tension_N_m"] and t["tension_N_m"] * MN, ""),
+             "micelle share [%]": num(100 * t["micelle_share"], "") if t["micelle_share"] else "0",
+             "batches [-]": t["batches"]} for t in r["trial"]]
+    st.table(pd.DataFrame(rows).set_index("level [× charge]"))
+    with st.expander("What to measure at each level"):
+        for t in r["trial"]:
+            st.markdown(f"**{t['level']:g} × charge** ({num(t['kg_product'], 'kg', 4)}): " + "; ".join(t["measure"]))
     if "uncertainty" in r:
         u = r["uncertainty"]
         d = u["dose_kg_product"]

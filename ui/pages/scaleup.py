@@ -107,11 +107,11 @@ with left:
         u = mc["summary"]
         charts.draw("histogram_from_bins", mc["edges_kg"], mc["counts"], "dose of product per batch [kg]",
                     {"P10": mc["p10"], "P50": mc["p50"], "P90": mc["p90"]}, key="chart_mc")
-        m = st.columns(4)
+        m = st.columns([1, 1, 1, 1.6])
         m[0].metric("P10", num(mc["p10"], "kg"))
         m[1].metric("P50", num(mc["p50"], "kg"))
         m[2].metric("P90", num(mc["p90"], "kg"))
-        m[3].metric("Target met with the charge", num(100 * u["probability_target_met"], "%"),
+        m[3].metric("P(target met)", num(100 * u["probability_target_met"], "%"),
                     help=f"charge {num(u['charge_kg_product'], 'kg')} covering P{u['percentile']:g} with the margin")
         st.caption(f"{u['samples']} samples, seed {u['seed']}; {u['sampling']}. "
                    f"Unreachable draws: {num(100 * u['infeasible_fraction'], '%')}.")
