@@ -341,3 +341,18 @@ def achievable_view(case, points: int = 121) -> dict:
             "limited_by": np.asarray(c["limited_by"]).tolist(),
             "knee_kg_product": float(c["knee_dose_mol"]) * per_mol, "knee_d32_m": float(c["knee_d32_m"]),
             "bulk_loss_kg_product": float(c["bulk_loss_mol"]) * per_mol}
+
+
+def depletion_curve(langmuir: dict, c_low: float, c_high: float, points: int = 80) -> dict | None:
+    """Return the fitted Langmuir excess of one depletion sample on a log grid, for a plot.
+
+    ``langmuir`` is one entry of :attr:`sizing.fit_depletion.DepletionFit.langmuir`; returns
+    ``{"c_mol_m3", "surface_excess_mol_m2"}`` (lists) or None when that sample has no fit.
+    """
+    from .isotherm import theta_of_c
+
+    if not isinstance(langmuir, dict) or "max_surface_excess_mol_m2" not in langmuir:
+        return None
+    c = np.geomspace(max(c_low, 1e-12), max(c_high, c_low * 10), points)
+    gamma = langmuir["max_surface_excess_mol_m2"] * theta_of_c(c, langmuir["adsorption_constant_m3_mol"])
+    return {"c_mol_m3": c.tolist(), "surface_excess_mol_m2": np.asarray(gamma, dtype=float).tolist()}

@@ -269,3 +269,13 @@ def test_tension_fit_from_lab_data_fills_the_case():
     block = surfactant_block(fit_tension(read_tension_csv(DEMOS / "lab" / "nonionic_tension.csv")))["surfactant"]
     assert surf["cmc"] == block["cmc"] and surf["isotherm"] == block["isotherm"]
     assert at.text_input(key="f:surfactant.cmc").value == block["cmc"]
+
+
+def test_depletion_runs_show_the_excess_and_its_fit():
+    at = page("surfactant")
+    at.session_state["depletion_file"] = str(DEMOS / "lab" / "depletion_runs.csv")
+    run(at)
+    at.button(key="btn_depletion_fit").click()
+    run(at)
+    spec = json.dumps([json.loads(c.proto.spec) for c in at.get("vega_lite_chart")])
+    assert "surface excess [umol/m**2]" in spec

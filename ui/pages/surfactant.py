@@ -5,6 +5,7 @@ import importlib
 import pandas as pd
 import streamlit as st
 
+from sizing import views
 from sizing.errors import InputError
 from ui import charts, state
 from ui.charts import MN, num
@@ -159,13 +160,11 @@ def _depletion_tab() -> None:
         pts = pd.DataFrame({"c_mM": df["continuous_concentration_mol_m3"],
                             "gamma_umol_m2": df["surface_excess_mol_m2"] * 1e6})
         curve = pd.DataFrame({"c_mM": [], "gamma_umol_m2": []})
-        for sample, lf in res.langmuir.items():
-            if isinstance(lf, dict) and "max_surface_excess_mol_m2" in lf:
-                import numpy as np
-
-                c = np.geomspace(max(pts["c_mM"].min(), 1e-9), pts["c_mM"].max(), 80)
-                g, k = lf["max_surface_excess_mol_m2"], lf["adsorption_constant_m3_mol"]
-                curve = pd.DataFrame({"c_mM": c, "gamma_umol_m2": 1e6 * g * k * c / (1 + k * c)})
+        for lf in res.langmuir.values():
+            line = views.depletion_curve(lf, float(pts["c_mM"].min()), float(pts["c_mM"].max()))
+            if line is not None:
+                curve = pd.DataFrame({"c_mM": line["c_mol_m3"],
+                                      "gamma_umol_m2": [g * 1e6 for g in line["surface_excess_mol_m2"]]})
                 break
         st.altair_chart(charts.points_and_curve(pts, curve, "c_mM", "gamma_umol_m2",
                                                 "free concentration after equilibration [mM]",
