@@ -21,7 +21,7 @@ from sizing.errors import InputError
 from sizing.model import solve_case
 
 ROOT = Path(__file__).resolve().parents[1]
-PAGES = ROOT / "ui" / "pages"
+PAGES = ROOT / "ui" / "screens"
 DEMOS = ROOT / "cases_demo"
 PAGE_NAMES = ("case", "drops", "surfactant", "dose", "scaleup", "plan")
 
@@ -190,15 +190,15 @@ def test_state_survives_moving_between_pages():
     at = AppTest.from_file(str(ROOT / "ui" / "app.py"), default_timeout=60)
     run(at)
     before = None
-    at.switch_page("pages/dose.py")
+    at.switch_page("screens/dose.py")
     before = number(metric(run(at), "Product as delivered"))
-    at.switch_page("pages/drops.py")
+    at.switch_page("screens/drops.py")
     run(at)
     at.text_input(key="f:drops.d32").set_value("1.0 um")
     run(at)
-    at.switch_page("pages/dose.py")
+    at.switch_page("screens/dose.py")
     after = number(metric(run(at), "Product as delivered"))
-    at.switch_page("pages/drops.py")
+    at.switch_page("screens/drops.py")
     run(at)
     assert at.text_input(key="f:drops.d32").value == "1.0 um"
     assert after > before

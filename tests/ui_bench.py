@@ -29,7 +29,7 @@ sys.path.insert(0, str(HERE))
 def apptest(reruns: int) -> dict:
     from streamlit.testing.v1 import AppTest
 
-    at = AppTest.from_file(str(ROOT / "ui" / "pages" / "dose.py"), default_timeout=60)
+    at = AppTest.from_file(str(ROOT / "ui" / "screens" / "dose.py"), default_timeout=60)
     t0 = time.perf_counter()
     at.run()
     first = time.perf_counter() - t0

@@ -12,7 +12,7 @@ from ui import state  # noqa: E402
 
 st.set_page_config(page_title="sizing workbench", page_icon=":material/bubble_chart:", layout="wide")
 
-HERE = Path(__file__).resolve().parent / "pages"
+HERE = Path(__file__).resolve().parent / "screens"
 pages = [
     st.Page(str(HERE / "case.py"), title="Case", icon=":material/description:", default=True, url_path="case"),
     st.Page(str(HERE / "drops.py"), title="Drops and bubbles", icon=":material/bubble_chart:", url_path="drops"),

@@ -31,8 +31,7 @@ def entry_script():
 def command(port: int, headless: bool) -> list[str]:
     """Return the ``streamlit run`` command line for the workbench.
 
-    Streamlit runs through ``ui.launch``, which makes ``st.navigation`` in ``ui/app.py`` own the
-    pages (Streamlit would otherwise treat the ``ui/pages`` folder as its older page layout).
+    Streamlit runs through ``ui.launch``, which imports the engine before the first visitor.
     """
     import sys
 
