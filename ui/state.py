@@ -262,7 +262,7 @@ def field(path: str, label: str, *, kind: str = "quantity", help: str | None = N
             opts = [raw] + opts if raw is not None else opts
         if key not in st.session_state:
             st.session_state[key] = raw if raw is not None else opts[0]
-        where.selectbox(label, opts, key=key, help=help, on_change=_store, args=(path, kind, optional))
+        where.selectbox(md_escape(label), opts, key=key, help=help, on_change=_store, args=(path, kind, optional))
     else:
         if key not in st.session_state:
             st.session_state[key] = _shown(raw)
@@ -270,10 +270,15 @@ def field(path: str, label: str, *, kind: str = "quantity", help: str | None = N
         if isinstance(raw, dict):
             spread = {k: v for k, v in raw.items() if k != "value"}
             extra = " (uncertain: " + ", ".join(f"{k} = {v}" for k, v in spread.items()) + ")"
-        where.text_input(label + extra, key=key, help=help, placeholder=placeholder,
+        where.text_input(md_escape(label + extra), key=key, help=help, placeholder=placeholder,
                          on_change=_store, args=(path, kind, optional))
     for msg in errors_for(path):
-        where.error(f"**{path}**: {msg}", icon=":material/error:")
+        where.error(f"**{path}**: {md_escape(msg)}", icon=":material/error:")
+
+
+def md_escape(text: str) -> str:
+    """Escape the characters Streamlit's markdown would read as emphasis (``m**3`` stays literal)."""
+    return str(text).replace("\\", "\\\\").replace("*", "\\*").replace("~", "\\~")
 
 
 def sidebar_status() -> None:

@@ -38,7 +38,7 @@ def command(port: int, headless: bool) -> list[str]:
     return [sys.executable, "-m", "ui.launch", "run", str(entry_script()),
             "--server.address", "127.0.0.1", "--server.port", str(port),
             "--server.headless", "true" if headless else "false",
-            "--browser.gatherUsageStats", "false", "--client.toolbarMode", "minimal"]
+            "--browser.gatherUsageStats", "false", "--server.maxUploadSize", "5", "--client.toolbarMode", "minimal"]
 
 
 def run(args) -> int:

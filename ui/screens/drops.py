@@ -79,7 +79,7 @@ with right:
     m[1].metric("dv50", num(size.get("dv50") and size["dv50"] * UM, "um"))
     m[2].metric("d43", num(size.get("d43") and size["d43"] * UM, "um"))
     m[3].metric("d10", num(size.get("d10") and size["d10"] * UM, "um"))
-    m[4].metric("span (dv90-dv10)/dv50", num(size.get("span"), ""))
+    m[4].metric("span", num(size.get("span"), ""), help="(dv90 - dv10) / dv50 on the volume distribution")
     try:
         curve = state.view("size_curve")
     except InputError as exc:
@@ -92,7 +92,7 @@ with right:
         charts.draw("size_distribution", curve, key="chart_sizes")
     a = s["area"]
     st.subheader("Interfacial area")
-    m = st.columns(4)
+    m = st.columns(2) + st.columns(2)
     m[0].metric("per batch", num(a["per_batch_m2"], "m²"))
     m[1].metric("per m³ of dispersion", num(a["per_m3_dispersion_m2_m3"], "m²/m³"))
     m[2].metric("per m³ of continuous phase", num(a["per_m3_continuous_m2_m3"], "m²/m³"))
