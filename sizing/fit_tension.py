@@ -248,7 +248,7 @@ def model_tension(c, model, gamma0, max_surface_excess, adsorption_constant, cmc
 
     Examples
     --------
-    >>> # REFERENCES.md Langmuir example: 4 umol/m2, K = 100 m3/mol, 25 C, c = 0.01 -> 6.8731 mN/m
+    >>> # worked Langmuir example: 4 umol/m2, K = 100 m3/mol, 25 C, c = 0.01 -> 6.8731 mN/m
     >>> round(float(72e-3 - model_tension(0.01, "langmuir", 72e-3, 4e-6, 100.0, 1.0, 298.15)) * 1e3, 4)
     6.8731
     """

@@ -61,7 +61,7 @@ def diffusion_time(surface_excess, concentration, diffusivity):
 
     Examples
     --------
-    Ferri and Stebe (2000) scale, REFERENCES.md example: 3 umol/m**2, 0.05 mM, 6e-10 m**2/s.
+    Ferri and Stebe (2000) scale, worked example: 3 umol/m**2, 0.05 mM, 6e-10 m**2/s.
 
     >>> h, tau = diffusion_time(3e-6, 0.05, 6e-10)
     >>> round(float(h) * 1e6, 9), round(float(tau), 9)

@@ -24,7 +24,7 @@ the spread of the prediction over an exponent window (:data:`EXPONENT_WINDOWS`),
 References
 ----------
 1. Chen, H. T. and Middleman, S., AIChE J. 13 (1967) 989 (stirred-tank drop size) [from memory].
-2. REFERENCES.md, "Drop size and scale-up": high-pressure homogenisers d32 ~ p**-0.6, exponents
+2. Published ranges for high-pressure homogenisers: d32 ~ p**-0.6, exponents
    -0.6 to -0.9 reported [from memory].
 """
 
@@ -43,7 +43,7 @@ RULES = ("constant_power_per_volume", "constant_tip_speed", "constant_speed", "g
 
 # default exponent b of d32 = C X**b, and where it comes from
 DEFAULT_EXPONENTS = {
-    "pressure": (-0.6, "homogeniser d32 ~ p**-0.6, turbulent-inertial regime (REFERENCES.md) [from memory]"),
+    "pressure": (-0.6, "homogeniser d32 ~ p**-0.6, turbulent-inertial regime [from memory]"),
     "energy_density": (-0.6, "d32 ~ E_V**-0.6, as for pressure (a valve homogeniser's E_V is about its "
                              "pressure drop, common practice) [from memory]"),
     "tip_speed": (-1.2, "We**-0.6 at fixed geometry gives d32 ~ (N D)**-1.2 (Chen and Middleman 1967) "
@@ -51,8 +51,8 @@ DEFAULT_EXPONENTS = {
 }
 # exponent window used for a band when the lab points give no scatter estimate
 EXPONENT_WINDOWS = {
-    "pressure": (-0.9, -0.6, "reported exponents -0.6 to -0.9 (REFERENCES.md) [from memory]"),
-    "energy_density": (-0.9, -0.6, "reported exponents -0.6 to -0.9 (REFERENCES.md) [from memory]"),
+    "pressure": (-0.9, -0.6, "reported exponents -0.6 to -0.9 [from memory]"),
+    "energy_density": (-0.9, -0.6, "reported exponents -0.6 to -0.9 [from memory]"),
     "tip_speed": (-1.5, -0.9, "assumed window -1.2 +- 0.3 (no source; a plausibility range)"),
 }
 WEBER_WINDOW = 0.1  # +- on the Weber exponent for the stirred-tank band (assumption, no source)
