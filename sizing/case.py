@@ -309,15 +309,24 @@ class Recommendation(Section):
 
 
 class Trial(Section):
-    levels: list[float] = Field(default_factory=lambda: [0.8, 1.0, 1.25], min_length=1, max_length=7)
+    """``[trial]``: 3 to 5 dose levels, as multiples of the recommended charge, bracketing it."""
+
+    levels: list[float] = Field(default_factory=lambda: [0.8, 1.0, 1.25])
     batches_per_level: int = Field(default=1, ge=1, le=100)
 
     @model_validator(mode="after")
     def _levels(self):
-        if any((not math.isfinite(x)) or x <= 0 or x > 10 for x in self.levels):
-            raise ValueError(f"levels: expected multiples of the recommended dose between 0 and 10, got {self.levels}")
-        if sorted(set(self.levels)) != list(self.levels):
-            raise ValueError(f"levels: expected distinct values in increasing order, got {self.levels}")
+        lv = list(self.levels)
+        if not 3 <= len(lv) <= 5:
+            raise ValueError(f"levels: expected 3 to 5 levels (multiples of the recommended charge), "
+                             f"got {len(lv)}: {lv}")
+        if any((not math.isfinite(x)) or x <= 0 or x > 10 for x in lv):
+            raise ValueError(f"levels: expected multiples of the recommended dose between 0 and 10, got {lv}")
+        if sorted(set(lv)) != lv:
+            raise ValueError(f"levels: expected distinct values in increasing order, got {lv}")
+        if not (lv[0] < 1.0 < lv[-1]):
+            raise ValueError(f"levels: expected levels that bracket the recommended charge (one below 1 and "
+                             f"one above 1, e.g. [0.8, 1.0, 1.25]), got {lv}")
         return self
 
 

@@ -524,6 +524,17 @@ def plan_warnings(plan: Plan) -> list[str]:
     for w in model.tension_warnings(inputs, np.array(tensions, dtype=float), "the charge or a trial level"):
         if w not in out:
             out.append(w)
+    unc = plan.extras.get("uncertainty", {}).get("json") if isinstance(plan.extras.get("uncertainty"), dict) else None
+    if unc and (unc.get("infeasible_fraction") or 0) > 0:
+        share = 100 * unc["infeasible_fraction"]
+        pct = unc.get("percentile", 90.0)
+        if share > 100 - pct:
+            out.append(f"{share:.3g} % of the Monte Carlo draws need more than the CMC allows, more than the "
+                       f"{100 - pct:.3g} % the P{pct:g} recommendation may leave out: the charge falls back to "
+                       "the dose for the nominal inputs and does not cover the chosen percentile; narrow the "
+                       "spreads, accept a lower coverage or choose another surfactant")
+        else:
+            out.append(f"{share:.3g} % of the Monte Carlo draws cannot reach the target below the CMC")
     return out
 
 
@@ -552,7 +563,7 @@ def plan_json(plan: Plan) -> dict:
 
 TRIAL_COLUMNS = ("level [x charge]", "product [kg/batch]", "active [kg/batch]", "active [mol/batch]",
                  "product [wt% of batch]", "coverage [-]", "free monomer [mM]", "tension [mN/m]",
-                 "micelle share [%]", "batches [-]", "measure")
+                 "micelle share [%]", "batches [-]", "achievable d32 [um]", "drop size limited by", "measure")
 
 
 def trial_csv(plan: Plan) -> str:
@@ -567,8 +578,11 @@ def trial_csv(plan: Plan) -> str:
     def g(x, scale=1.0):
         return "" if not math.isfinite(x) else f"{x * scale:.6g}"
 
-    for t in plan.trial:
+    extra = list(plan.extras.get("trial_levels", ())) or [{}] * len(plan.trial)
+    for t, lv in zip(plan.trial, extra):
+        d32 = lv.get("achievable_d32_m")
         w.writerow([f"{t.level:g}", g(t.kg_product), g(t.kg_active), g(t.mol), g(t.wt_percent),
                     g(t.coverage), g(t.free_concentration), g(t.tension, 1e3), g(t.micelle_share, 100),
-                    t.batches, "; ".join(t.measure)])
+                    t.batches, g(d32, 1e6) if d32 is not None else "", lv.get("limited_by", ""),
+                    "; ".join(t.measure)])
     return buf.getvalue()

@@ -37,3 +37,18 @@ def test_message_names_field_value_and_allowed(old, new, message):
     assert old in LOTION
     with pytest.raises(InputError, match=message):
         loads_case(LOTION.replace(old, new))
+
+
+@pytest.mark.parametrize(
+    "levels, message",
+    [
+        ("[1.0]", r"trial\.levels: expected 3 to 5 levels"),
+        ("[0.5, 0.8, 1.0, 1.2, 1.5, 2.0]", r"trial\.levels: expected 3 to 5 levels"),
+        ("[1.0, 1.2, 1.5]", r"trial\.levels: expected levels that bracket the recommended charge"),
+        ("[0.8, 1.2, 1.0]", r"trial\.levels: expected distinct values in increasing order"),
+    ],
+)
+def test_trial_levels_bracket_the_charge(levels, message):
+    # The trial matrix has 3 to 5 levels bracketing the recommendation (the plan's contract).
+    with pytest.raises(InputError, match=message):
+        loads_case(LOTION.replace("levels = [0.8, 1.0, 1.25]", f"levels = {levels}"))

@@ -180,3 +180,28 @@ def test_failed_plan_leaves_the_previous_report_byte_identical(tmp_path, monkeyp
     after = {n: (out / n).read_bytes() for n in before}
     assert after == before
     assert sorted(p.name for p in tmp_path.iterdir()) == ["bad.toml", "p"]  # no temp folder left
+
+
+def test_trial_csv_carries_the_achievable_d32(tmp_path, capsys):
+    # The surfactant-limited d32 of each level (sizing.achievable) is in the CSV as in result.json.
+    out = tmp_path / "lotion"
+    assert main(["plan", str(LOTION), "--out", str(out)]) == 0
+    j = json.loads((out / "result.json").read_text())
+    rows = list(csv.DictReader((out / "trial_plan.csv").open()))
+    for row, level in zip(rows, j["trial"]):
+        assert float(row["achievable d32 [um]"]) == pytest.approx(level["achievable_d32_m"] * 1e6, rel=1e-5)
+        assert row["drop size limited by"] == level["limited_by"]
+
+
+def test_plan_warns_when_the_percentile_cannot_be_covered():
+    # Uniform target coverage 0.85..0.92 against a CMC ceiling of 0.9077 (Langmuir, K cmc =
+    # 9.84): about (0.92 - 0.9077)/0.07 = 18 % of draws are unreachable, more than the 10 % a
+    # P90 charge may leave out, so the plan must say so (regression of the plan's own logic).
+    from sizing.case import case_with
+    from sizing.plan import build_plan, plan_json
+
+    case = case_with(load_case(LOTION), {"target.coverage": {"value": 0.89, "low": 0.85, "high": 0.92},
+                                         "uncertainty.samples": 20000})
+    j = plan_json(build_plan(case))
+    assert j["uncertainty"]["infeasible_fraction"] == pytest.approx((0.92 - 9.84 / 10.84) / 0.07, abs=0.02)
+    assert any("does not cover the chosen percentile" in w for w in j["warnings"])
