@@ -113,6 +113,19 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
     theta_cmc = np.where(np.isfinite(cmc), theta_of_c(np.where(np.isfinite(cmc), cmc, 0.0), k, model, b), 1.0)
     n_cmc = np.where(np.isfinite(cmc), veff * np.where(np.isfinite(cmc), cmc, 0.0) + s * theta_cmc, np.inf)
     micelles = n >= n_cmc
+    if model == "langmuir":
+        # closed form on the whole array (no masking): V K c**2 + (V + S K - N K) c - N = 0
+        with np.errstate(divide="ignore", invalid="ignore"):
+            bq = veff + s * k - n * k
+            root = np.sqrt(bq * bq + 4.0 * veff * k * n)
+            cs = np.where(bq >= 0, 2.0 * n / (bq + root), (root - bq) / (2.0 * veff * k))
+        c = np.where(micelles, cmc, np.where(n > 0, cs, 0.0))
+        theta = np.where(micelles, theta_cmc, k * c / (1.0 + k * c))
+        state = state_at_concentration(c, continuous_volume=vc, dispersed_volume=vd, uptake=u,
+                                       max_surface_excess=gi, area=a, adsorption_constant=k,
+                                       model=model, beta=b, theta=theta)
+        return BalanceState(state.free_concentration, state.coverage, state.continuous_mol,
+                            state.dispersed_mol, state.interface_mol, np.where(micelles, n - n_cmc, 0.0))
     c = np.zeros(n.shape)
     theta = np.zeros(n.shape)
     c[micelles] = cmc[micelles]
@@ -120,14 +133,18 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
     solve = (~micelles) & (n > 0)
     if np.any(solve):
         N, V, S, K, B = n[solve], veff[solve], s[solve], k[solve], b[solve]
-        if model != "langmuir":
-            with np.errstate(divide="ignore", over="ignore"):
-                th_hi_c = theta_of_c(N / V, K, model, B)
-                th_lo_c = theta_of_c(0.5 * N / V, K, model, B)
-                y_hi = np.minimum(logit(th_hi_c), logit(np.minimum(N / S, 1.0)))
-                y_lo = np.minimum(logit(th_lo_c), logit(np.minimum(0.5 * N / S, 1.0)))
-                y_hi = np.minimum(y_hi, logit(theta_cmc[solve]))
-                y_lo = np.minimum(y_lo, y_hi)
+        with np.errstate(divide="ignore", over="ignore"):
+            if model == "frumkin":
+                # y = ln(K c) + 2 beta theta: bounds on c bound y within 2|beta| without a root
+                y_c_hi = np.log(K * N / V) + np.maximum(0.0, 2.0 * B)
+                y_c_lo = np.log(0.5 * K * N / V) + np.minimum(0.0, 2.0 * B)
+            else:
+                y_c_hi = logit(theta_of_c(N / V, K, model, B))
+                y_c_lo = logit(theta_of_c(0.5 * N / V, K, model, B))
+            y_hi = np.minimum(y_c_hi, logit(np.minimum(N / S, 1.0)))
+            y_lo = np.minimum(y_c_lo, logit(np.minimum(0.5 * N / S, 1.0)))
+            y_hi = np.minimum(y_hi, logit(theta_cmc[solve]))
+            y_lo = np.minimum(y_lo, y_hi)
 
         def fdf(y, idx):
             lnkc, dl = lnkc_of_logit(y, model, B[idx])
@@ -138,19 +155,10 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
             # scale so that the tolerance is relative to the dose
             return g / N[idx], dg / N[idx]
 
-        if model == "langmuir":
-            # closed form: V K c**2 + (V + S K - N K) c - N = 0, stable root
-            bq = V + S * K - N * K
-            root = np.sqrt(bq * bq + 4.0 * V * K * N)
-            with np.errstate(divide="ignore", invalid="ignore"):
-                cs = np.where(bq >= 0, 2.0 * N / (bq + root), (root - bq) / (2.0 * V * K))
-            c[solve] = cs
-            theta[solve] = K * cs / (1.0 + K * cs)
-        else:
-            y = bracketed_newton(fdf, y_lo, y_hi, xtol=xtol, rtol=1e-15)
-            lnkc, _ = lnkc_of_logit(y, model, B)
-            c[solve] = np.exp(lnkc) / K
-            theta[solve] = expit(y)
+        y = bracketed_newton(fdf, y_lo, y_hi, xtol=xtol, rtol=1e-15)
+        lnkc, _ = lnkc_of_logit(y, model, B)
+        c[solve] = np.exp(lnkc) / K
+        theta[solve] = expit(y)
     state = state_at_concentration(c, continuous_volume=vc, dispersed_volume=vd, uptake=u,
                                    max_surface_excess=gi, area=a, adsorption_constant=k,
                                    model=model, beta=b, theta=theta)
