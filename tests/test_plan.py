@@ -205,3 +205,9 @@ def test_plan_warns_when_the_percentile_cannot_be_covered():
     j = plan_json(build_plan(case))
     assert j["uncertainty"]["infeasible_fraction"] == pytest.approx((0.92 - 9.84 / 10.84) / 0.07, abs=0.02)
     assert any("does not cover the chosen percentile" in w for w in j["warnings"])
+
+
+def test_cli_plan_json_prints_only_json(tmp_path, capsys):
+    assert main(["plan", str(LOTION), "--out", str(tmp_path / "p"), "--json"]) == 0
+    j = json.loads(capsys.readouterr().out)  # the whole stdout is one JSON object
+    assert j == json.loads((tmp_path / "p" / "result.json").read_text())

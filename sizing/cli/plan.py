@@ -24,7 +24,7 @@ def register(sub) -> None:
                                    "and report.html, result.json and trial_plan.csv in DIR.")
     p.add_argument("case", nargs="?", help="case file (TOML); omit to plan the built-in demo case")
     p.add_argument("--out", metavar="DIR", help="output folder (default ./<case-name>_plan)")
-    p.add_argument("--json", action="store_true", help="also print result.json on stdout")
+    p.add_argument("--json", action="store_true", help="print result.json on stdout instead of the summary (the files are still written)")
     p.set_defaults(func=run)
 
 
@@ -119,6 +119,9 @@ def run(args) -> int:
     out_dir = Path(args.out) if args.out else Path.cwd() / f"{stem}_plan"
     plan, files = build_outputs(case, source)
     written = write_outputs(out_dir, files)
+    if args.json:  # one JSON object on stdout (result.json), nothing else
+        print(dumps(plan.to_json()))
+        return 0
     print(describe(plan))
     from ..plan import plan_warnings
 
@@ -127,6 +130,7 @@ def run(args) -> int:
     print()
     for p in written:
         print(f"wrote {p}")
-    if args.json:
-        print(dumps(plan.to_json()))
+    print("\nEquilibrium estimate: confirm the dose by a plant trial. Handle surfactants per their safety "
+          "data sheet;\nfood, cosmetic and pharmaceutical uses have legal emulsifier limits; defer to local "
+          "codes and\nqualified practice (see the cautions in report.html).")
     return 0
