@@ -356,3 +356,186 @@ def depletion_curve(langmuir: dict, c_low: float, c_high: float, points: int = 8
     c = np.geomspace(max(c_low, 1e-12), max(c_high, c_low * 10), points)
     gamma = langmuir["max_surface_excess_mol_m2"] * theta_of_c(c, langmuir["adsorption_constant_m3_mol"])
     return {"c_mol_m3": c.tolist(), "surface_excess_mol_m2": np.asarray(gamma, dtype=float).tolist()}
+
+
+# ---------------------------------------------------------------------------------------------
+# spreads for the Monte Carlo, and the adsorption-speed check
+
+_MORE_LABELS = {
+    "scaleup.plant": "plant process variable", "scaleup.plant_diameter": "plant impeller diameter",
+    "scaleup.exponent": "power-law exponent b", "scaleup.lab_diameter": "lab impeller diameter",
+    "scaleup.lab_speed": "lab speed", "scaleup.plant_speed": "plant speed",
+    "scaleup.weber_exponent": "Weber exponent", "process.residence_time": "residence time in the homogeniser",
+}
+
+
+def field_label(path: str) -> str:
+    """Return a readable name of a case field (``"drops.d32"`` -> ``"Sauter mean diameter d32"``).
+
+    >>> field_label("drops.d32")
+    'Sauter mean diameter d32'
+    >>> field_label("batch.some_key")
+    'some key'
+    """
+    from .plan import _LABELS
+
+    return _LABELS.get(path) or _MORE_LABELS.get(path) or path.partition(".")[2].replace("_", " ")
+
+
+def _value_text(raw) -> str:
+    raw = raw.get("value") if isinstance(raw, dict) else raw
+    return "" if raw is None else str(raw)
+
+
+def _unit_of(raw, dimension: str) -> str:
+    """Return the unit the user wrote a value in (the SI unit when none is readable)."""
+    from .units import _NUMBER, DIMENSIONS
+
+    m = _NUMBER.match(raw) if isinstance(raw, str) else None
+    unit = m.group(2) if m else ""
+    return unit or DIMENSIONS[dimension][1]
+
+
+def spread_fields(case) -> list[dict]:
+    """Return every numeric field of a validated case, for a spread editor.
+
+    Returns
+    -------
+    list of dict
+        ``path``, ``label``, ``dimension``, ``si_unit``, ``example`` (an input with its unit),
+        ``value`` (the value as written, without any spread), ``spread`` (None, or
+        ``{"kind": "lognormal", "rel_sd": x}`` or ``{"kind": "uniform", "low": text, "high": text}``)
+        and ``in_dose`` (False where a spread cannot move the dose).
+    """
+    from .uncertainty import NOT_IN_DOSE
+    from .units import DIMENSIONS
+
+    out = []
+    for path, v in case.quantities().items():
+        spread = None
+        if v.spread is not None and isinstance(v.raw, dict):
+            if v.spread[0] == "lognormal":
+                spread = {"kind": "lognormal", "rel_sd": v.spread[1]}
+            else:
+                spread = {"kind": "uniform", "low": str(v.raw["low"]), "high": str(v.raw["high"])}
+        _, si_unit, example = DIMENSIONS[v.dimension]
+        out.append({"path": path, "label": field_label(path), "dimension": v.dimension, "si_unit": si_unit,
+                    "example": example, "value": _value_text(v.raw), "spread": spread,
+                    "in_dose": path not in NOT_IN_DOSE})
+    return out
+
+
+def spread_entry(value, kind: str, rel_sd: str = "", low: str = "", high: str = "", path: str = "value"):
+    """Return the raw case entry of a value with a spread (the schema then checks it).
+
+    Parameters
+    ----------
+    value : the current raw value (text with its unit, or a number)
+    kind : ``"lognormal"`` (uses ``rel_sd``), ``"uniform"`` (uses ``low`` and ``high``) or
+        ``"none"`` (the plain value)
+    rel_sd, low, high : text as typed; ``rel_sd`` may be a number or a percentage (``"15 %"``)
+
+    Raises
+    ------
+    InputError
+        An empty rel_sd, low or high, naming the field and what is expected.
+
+    Examples
+    --------
+    >>> spread_entry("2.0 um", "lognormal", rel_sd="15 %")
+    {'value': '2.0 um', 'rel_sd': 0.15}
+    >>> spread_entry(0.25, "uniform", low="0.2", high=" 0.3 ")
+    {'value': 0.25, 'low': 0.2, 'high': 0.3}
+    """
+    from .units import parse
+
+    value = value.get("value") if isinstance(value, dict) else value
+    if kind == "none":
+        return value
+
+    def text(s, name, expected):
+        s = str(s).strip()
+        if not s:
+            raise InputError(f"{path}: {name} is empty; expected {expected}")
+        try:
+            return float(s) if isinstance(value, (int, float)) else s
+        except ValueError:
+            return s
+
+    if kind == "lognormal":
+        s = str(rel_sd).strip()
+        if not s:
+            raise InputError(f"{path}: rel_sd is empty; expected a number from 0 to 3 (e.g. 0.15 or 15 %)")
+        try:
+            rel = parse(s, f"{path}.rel_sd", "dimensionless")
+        except InputError:
+            rel = s  # the schema names it
+        return {"value": value, "rel_sd": rel}
+    if kind == "uniform":
+        unit = "a value with the field's unit" if not isinstance(value, (int, float)) else "a plain number"
+        return {"value": value, "low": text(low, "low", unit), "high": text(high, "high", unit)}
+    raise InputError(f"{path}: unknown spread kind {kind!r}; expected lognormal, uniform or none")
+
+
+def spread_rows(case) -> list[dict]:
+    """Return the spreads of a case as table rows, P10 and P90 in the unit the value is written in.
+
+    Rows: ``field``, ``quantity``, ``distribution``, ``value``, ``spread``, ``P10``, ``P90`` (text
+    with units), ``unit`` (``"-"`` for a plain number); for a uniform spread P10 and P90 are 10 % and 90 % of the way from low to high).
+    """
+    from .uncertainty import spread_quantiles
+    from .units import format_si
+
+    rows = []
+    for path, v in case.spreads().items():
+        unit = _unit_of(_value_text(v.raw), v.dimension)
+        p10, p90 = (float(x) for x in spread_quantiles(v, [0.1, 0.9]))
+        try:
+            q = [format_si(x, v.dimension, unit if v.dimension != "dimensionless" else None, 3) for x in (p10, p90)]
+        except Exception:  # a unit pint cannot convert back to: show SI
+            q = [format_si(x, v.dimension, None, 3) for x in (p10, p90)]
+        if v.spread[0] == "lognormal":
+            dist, spread = "log-normal", f"rel_sd {v.spread[1]:g} ({100 * v.spread[1]:.3g} % of the mean)"
+        else:
+            dist, spread = "uniform", f"{v.raw['low']} .. {v.raw['high']}"
+        rows.append({"field": path, "quantity": field_label(path), "distribution": dist,
+                     "value": _value_text(v.raw), "spread": spread, "P10": q[0], "P90": q[1],
+                     "unit": unit if v.dimension != "dimensionless" else "-"})
+    return rows
+
+
+ADSORPTION_FIELDS = {"surfactant.diffusivity": "monomer diffusivity D (Surfactant page)",
+                     "process.residence_time": "residence time in the homogeniser ([process])"}
+
+
+def adsorption_view(case) -> dict:
+    """Return the adsorption-speed check of a case for a screen.
+
+    Returns
+    -------
+    dict
+        ``status``: ``"missing"`` (with ``missing``, the fields that enable the check),
+        ``"unreachable"`` (the target is above the CMC ceiling), ``"flagged"`` or ``"ok"``;
+        ``diffusivity`` and ``residence_time`` (as written, or None); with a check, ``check``:
+        :func:`sizing.kinetics.adsorption_check` (h [m], tau_D [s], t_res [s], ratio [-], message).
+    """
+    from .kinetics import adsorption_check
+    from .model import solve_case
+
+    d = case.surfactant.diffusivity
+    proc = getattr(case, "process", None)
+    t = proc.residence_time if proc is not None else None
+    out = {"diffusivity": _value_text(d.raw) if d is not None else None,
+           "residence_time": _value_text(t.raw) if t is not None else None,
+           "missing": [p for p, v in (("surfactant.diffusivity", d), ("process.residence_time", t)) if v is None],
+           "check": None}
+    if out["missing"]:
+        out["status"] = "missing"
+        return out
+    sol = solve_case(case)
+    if not bool(np.all(sol.feasible)):
+        out["status"] = "unreachable"
+        return out
+    out["check"] = adsorption_check(case, sol)
+    out["status"] = "flagged" if out["check"]["optimistic"] else "ok"
+    return out
