@@ -33,7 +33,7 @@ ALIASES = {
 EXTRA_DIMENSIONS = {"drops.d32": "length", "target.coverage": "dimensionless",
                     "target.tension": "tension", "target.free_concentration": "concentration"}
 
-_SPEC = re.compile(r"^\s*([A-Za-z_][\w.]*)\s*=\s*(.+?)\s*\.\.\s*(.+?)\s*:\s*(\d+)\s*$")
+_SPEC = re.compile(r"^\s*([A-Za-z_][\w.]*)\s*=\s*(.+?)\s*\.\.\s*(.+?)\s*:\s*(\d+)\s*(?::\s*(log|lin))?\s*$")
 _NUM = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 MAX_POINTS = 1_000_000
 
@@ -70,7 +70,10 @@ def _dimension(case, path: str) -> str:
 
 
 def parse_vary(spec: str, case) -> Variation:
-    """Parse ``NAME=LOW..HIGH:N`` into a :class:`Variation` (units read from LOW/HIGH text).
+    """Parse ``NAME=LOW..HIGH:N[:log]`` into a :class:`Variation` (units read from LOW/HIGH text).
+
+    ``:log`` spaces the N points evenly in the logarithm (sizes and concentrations that span
+    decades); the default is even linear spacing.
 
     Raises
     ------
@@ -79,8 +82,9 @@ def parse_vary(spec: str, case) -> Variation:
     """
     m = _SPEC.match(spec)
     if not m:
-        raise InputError(f"--vary: expected NAME=LOW..HIGH:N such as 'd32=1um..5um:9', got {spec!r}")
-    name, lo_text, hi_text, n_text = m.groups()
+        raise InputError(f"--vary: expected NAME=LOW..HIGH:N[:log] such as 'd32=1um..5um:9' or "
+                         f"'d32=0.5um..20um:9:log', got {spec!r}")
+    name, lo_text, hi_text, n_text, spacing = m.groups()
     path = ALIASES.get(name, name)
     if "." not in path:
         raise InputError(f"--vary {name}: unknown name; expected one of {', '.join(sorted(ALIASES))} "
@@ -108,6 +112,11 @@ def parse_vary(spec: str, case) -> Variation:
             shown_unit = "%"
     if not lo_si < hi_si:
         raise InputError(f"--vary {name}: expected LOW < HIGH, got {lo_text!r}..{hi_text!r}")
+    if spacing == "log":
+        if not (lo_si > 0 and lo_show > 0):
+            raise InputError(f"--vary {name}: a log grid needs LOW > 0, got {lo_text!r}")
+        return Variation(path=path, name=name, si=np.geomspace(lo_si, hi_si, n),
+                         shown=np.geomspace(lo_show, hi_show, n), unit=shown_unit)
     return Variation(path=path, name=name, si=np.linspace(lo_si, hi_si, n),
                      shown=np.linspace(lo_show, hi_show, n), unit=shown_unit)
 

@@ -68,3 +68,12 @@ def test_cli_sweep_csv(tmp_path, capsys):
     lines = out.read_text().splitlines()
     assert lines[0].startswith("d32 [um],feasible,dose active [kg]") and len(lines) == 6
     assert main(["sweep", str(LOTION), "--vary", "bogus=1..2:3"]) == 2
+
+
+def test_log_spacing_matches_geomspace():
+    # ':log' spaces the grid as numpy.geomspace (reference library).
+    case = load_case(LOTION)
+    v = parse_vary("d32=0.5um..20um:5:log", case)
+    np.testing.assert_allclose(v.si, np.geomspace(0.5e-6, 20e-6, 5), rtol=1e-12)
+    with pytest.raises(InputError, match="a log grid needs LOW > 0"):
+        parse_vary("d32=0um..20um:5:log", case)

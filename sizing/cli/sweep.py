@@ -9,8 +9,9 @@ def register(sub) -> None:
                                    "NAME is d32, dispersed_fraction, volume, coverage, temperature, ... "
                                    "or any numeric case field by its TOML path (surfactant.cmc).")
     p.add_argument("case", help="case file (TOML)")
-    p.add_argument("--vary", action="append", required=True, metavar="NAME=LOW..HIGH:N",
-                   help="e.g. 'd32=1um..5um:9' or 'batch.temperature=20..60 degC:5'; at most twice")
+    p.add_argument("--vary", action="append", required=True, metavar="NAME=LOW..HIGH:N[:log]",
+                   help="e.g. 'd32=1um..5um:9', 'd32=0.3um..30um:9:log' (log spacing) or "
+                        "'batch.temperature=20..60 degC:5'; at most twice")
     p.add_argument("--csv", metavar="FILE", help="also write the table as CSV (atomically)")
     p.set_defaults(func=run)
 
