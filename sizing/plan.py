@@ -45,6 +45,11 @@ MODEL_ASSUMPTIONS = (
     "The interfacial area is the shape factor times 6 V_d / d32 (the Sauter mean sets the area).",
     "One surface-active species; other ingredients neither adsorb nor bind the surfactant.",
     "The partition coefficient of the monomer is constant below the CMC.",
+    "The isotherm constants, the CMC and the partition coefficient hold at the batch temperature as "
+    "given (the temperature enters only through R T in the equation of state): measure them near "
+    "the process temperature.",
+    "Nothing is lost to vessel walls, foam or air (in an emulsion), or to solids and other ingredients "
+    "that adsorb surfactant.",
 )
 
 AUTO_INCREMENT_NOTE = "automatic: a 1-2-5 step near 1 % of the charge (no [recommendation] increment)"
