@@ -504,8 +504,8 @@ def spread_rows(case) -> list[dict]:
     return rows
 
 
-ADSORPTION_FIELDS = {"surfactant.diffusivity": "monomer diffusivity D (Surfactant page)",
-                     "process.residence_time": "residence time in the homogeniser ([process])"}
+ADSORPTION_FIELDS = {"surfactant.diffusivity": "the monomer diffusivity D, on the Surfactant page",
+                     "process.residence_time": "the residence time in the homogeniser, under Process"}
 
 
 def adsorption_view(case) -> dict:

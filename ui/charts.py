@@ -181,3 +181,38 @@ def draw(name: str, *args, key: str) -> None:
     the spec is plain data, so it is cached on the chart's inputs.
     """
     st.vega_lite_chart(_spec(name, args), width="stretch", key=key)
+
+
+def adsorption_panel(view: dict, where=None) -> None:
+    """Show the adsorption-speed check of ``sizing.views.adsorption_view``: figures and the flag."""
+    where = where or st
+    status = view["status"]
+    if status == "missing":
+        from sizing.views import ADSORPTION_FIELDS
+
+        need = " and ".join(f"`{p}` ({ADSORPTION_FIELDS[p]})" for p in view["missing"])
+        where.info(f"The adsorption-speed check is off: it needs {need}. With both, it compares the "
+                   "diffusion time to cover new interface with the time drops spend in the homogeniser.",
+                   icon=":material/info:")
+        return
+    if status == "unreachable":
+        where.info("The adsorption-speed check needs a reachable target; this target lies above the CMC "
+                   "ceiling (see the Dose balance page).", icon=":material/info:")
+        return
+    j = view["check"]
+    m = where.columns(4)
+    m[0].metric("Adsorption depth h = Gamma/c", num(j["depth_m"] * UM, "um"))
+    m[1].metric("Diffusion time tau_D = h²/D", num(j["diffusion_time_s"], "s"),
+                help=f"Ward-Tordai short-time estimate {num(j['ward_tordai_time_s'], 's')}")
+    m[2].metric("Residence time t_res", num(j["residence_time_s"], "s"))
+    m[3].metric("tau_D / t_res", num(j["ratio"], "(-)"), help=f"flagged above {j['threshold']:g}")
+    figures = (f"free monomer {num(j['free_concentration_mol_m3'], 'mM')}, surface excess "
+               f"{num(j['surface_excess_mol_m2'] * 1e6, 'umol/m²')}, D {num(j['diffusivity_m2_s'], 'm²/s')}")
+    if status == "flagged":
+        where.warning(f"**Adsorption may be too slow: the equilibrium dose is optimistic.** tau_D / t_res = "
+                      f"{num(j['ratio'], '')} is above {j['threshold']:g}, so new interface is not covered while "
+                      "the drops are made; expect larger drops or more coalescence than the balance assumes, and "
+                      f"test a higher level in the trial ({figures}).", icon=":material/warning:")
+    else:
+        where.success(f"Adsorption is fast enough: tau_D / t_res = {num(j['ratio'], '')} is at most "
+                      f"{j['threshold']:g} ({figures}).", icon=":material/check_circle:")

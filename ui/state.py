@@ -28,7 +28,7 @@ SOURCE = "case_source"
 VERSION = "files_version"
 STASH = "case_stash"  # values of fields hidden by a switch (restored when switched back)
 PREFIX = "f:"
-OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty")
+OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty", "process")
 
 CAUTIONS = (
     "Equilibrium estimate: confirm the dose by a lab batch and a plant trial.",

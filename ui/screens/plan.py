@@ -6,7 +6,7 @@ import pandas as pd
 import streamlit as st
 
 from sizing.errors import InputError
-from ui import state
+from ui import charts, state
 from ui.charts import MN, num
 
 state.ensure_case()
@@ -69,6 +69,9 @@ if plan is not None:
         st.caption(f"Monte Carlo ({u['samples']} samples): dose P10 {num(d['p10'], 'kg')}, P50 {num(d['p50'], 'kg')}, "
                    f"P90 {num(d['p90'], 'kg')}; the target is met in {num(100 * u['probability_target_met'], '%')} "
                    "of the draws with the charge.")
+
+    st.subheader("Adsorption speed")
+    charts.adsorption_panel(state.view("adsorption_view"))
 
     st.subheader("Downloads")
     files = plan["files"]

@@ -3,6 +3,7 @@
 import pandas as pd
 import streamlit as st
 
+from sizing import views
 from sizing.errors import InputError
 from ui import charts, state
 from ui.charts import UM, num
@@ -68,6 +69,100 @@ with st.container(border=True):
                 del st.session_state[k]
             st.rerun()
 
+# ---- spreads for the Monte Carlo -------------------------------------------------------------
+KINDS = {"lognormal": "log-normal (relative SD)", "uniform": "uniform (low..high)"}
+EDITED = "_spread_edited"  # (path, message lines of the entry builder) of the last submitted spread
+
+checked = state.check()
+if checked["case"] is not None:  # the field list of the last valid case stays usable while it is fixed
+    st.session_state["_spread_fields"] = state.view("spread_fields")
+fields = {f["path"]: f for f in st.session_state.get("_spread_fields") or []}
+
+
+def _option(path: str) -> str:
+    f = fields[path]
+    value = f["value"] + (" (-)" if f["dimension"] == "dimensionless" and f["value"] else "")
+    mark = " · has a spread" if f["spread"] else ""
+    return f"{f['label']} ({path}) = {value or '-'}{mark}"
+
+
+with st.container(border=True):
+    st.subheader("Spreads for the Monte Carlo")
+    if not fields:
+        st.info("Fix the case's problems first: the spread editor lists the fields of a valid case.",
+                icon=":material/info:")
+    else:
+        with st.form("form_spread"):
+            c1, c2 = st.columns([3, 2])
+            path = c1.selectbox("Field", list(fields), format_func=_option, key="spread_path",
+                                help="any numeric field of the case; the value stays as it is")
+            kind = c2.radio("Distribution", list(KINDS), format_func=KINDS.get, key="spread_kind",
+                            horizontal=True)
+            c3, c4, c5 = st.columns(3)
+            rel = c3.text_input("rel_sd, for log-normal [-, e.g. 0.15 or 15 %]", key="spread_rel_sd",
+                                help="coefficient of variation: standard deviation over the mean, 0 to 3")
+            low = c4.text_input("low, for uniform [the field's unit, e.g. 1.8 um]", key="spread_low")
+            high = c5.text_input("high, for uniform [the field's unit, e.g. 2.4 um]", key="spread_high")
+            st.caption("low and high take the same kind of unit as the field (a plain number for a "
+                       "dimensionless one) and must enclose its value.")
+            b1, b2, _ = st.columns([1, 1, 3])
+            apply = b1.form_submit_button("Apply the spread", key="btn_spread_apply", type="primary")
+            remove = b2.form_submit_button("Remove the spread", key="btn_spread_remove")
+        if apply or remove:
+            raw = state.get(path)
+            try:
+                entry = views.spread_entry(raw, "none" if remove else kind, rel, low, high, path)
+            except InputError as exc:
+                st.session_state[EDITED] = (path, list(exc.problems))
+            else:
+                state.put(path, entry)
+                st.session_state.pop(state.PREFIX + path, None)  # the field's widget shows the new value
+                st.session_state[EDITED] = (path, [])
+            st.rerun()
+        edited = st.session_state.get(EDITED)
+        if edited:
+            e_path, lines = edited
+            lines = list(lines) + state.errors_for(e_path)
+            if not lines and state.check()["case"] is not None:
+                try:
+                    state.view("uncertainty_view")
+                except InputError as exc:  # the Monte Carlo's checks (a spread that moves nothing, ...)
+                    lines = [ln.partition(": ")[2] for ln in exc.problems if ln.startswith(e_path + ":")]
+            for msg in lines:
+                msg = msg.partition(": ")[2] if msg.startswith(e_path + ":") else msg
+                st.error(f"**{e_path}** ({state.md_escape(views.field_label(e_path))}): {state.md_escape(msg)}. "
+                         "A spread is either rel_sd from 0 to 3 on a value > 0, or low < value < high in the "
+                         "field's unit, on a field that moves the dose.", icon=":material/error:")
+            if not lines and e_path in fields:
+                st.success(f"{e_path}: spread updated; the Monte Carlo below uses it.",
+                           icon=":material/check_circle:")
+        if state.check()["case"] is not None:
+            rows = state.view("spread_rows")
+            if rows:
+                st.table(pd.DataFrame(rows).set_index("field"))
+            else:
+                st.caption("No field carries a spread yet.")
+    st.markdown("**Monte Carlo settings** (the same fields as in *Uncertainty (Monte Carlo settings)* on "
+                "the Case page)")
+    u1, u2, u3 = st.columns(3)
+    field("uncertainty.samples", "Samples [-]", kind="number", optional=True, placeholder="100000", where=u1)
+    field("uncertainty.seed", "Seed [-]", kind="number", optional=True, placeholder="20261201", where=u2)
+    field("uncertainty.percentile", "Percentile for the charge [%]", kind="number", optional=True,
+          placeholder="90", where=u3)
+
+# ---- process and adsorption speed ------------------------------------------------------------
+with st.container(border=True):
+    st.subheader("Process and adsorption speed")
+    p1, p2 = st.columns([1, 2], gap="large")
+    field("process.residence_time", "Residence time in the homogeniser [time, e.g. 0.5 ms or 2 s] (optional)",
+          optional=True, where=p1, help="time the drops spend in the homogeniser's break-up zone ([process])")
+    diff = state.get("surfactant.diffusivity")
+    p1.caption("Monomer diffusivity D (`surfactant.diffusivity`, set on the Surfactant page): "
+               + (f"{state.md_escape(state._shown(diff))}" if diff is not None else "not given"))
+    if state.check()["case"] is not None:
+        charts.adsorption_panel(state.view("adsorption_view"), where=p2)
+
+
 result = state.needs_valid_case()
 
 # ---- predicted plant d32 -----------------------------------------------------------------------
@@ -100,9 +195,8 @@ with left:
             st.error(line, icon=":material/error:")
         mc = None
     if mc is None:
-        st.info("No input carries a spread. Write one in the case file, e.g. "
-                "`d32 = { value = \"2.4 um\", rel_sd = 0.15 }`, or add a scale-up section.",
-                icon=":material/info:")
+        st.info("No input carries a spread. Add one in *Spreads for the Monte Carlo* above, or add a "
+                "scale-up section.", icon=":material/info:")
     else:
         u = mc["summary"]
         charts.draw("histogram_from_bins", mc["edges_kg"], mc["counts"], "dose of product per batch [kg]",
