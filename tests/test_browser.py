@@ -57,11 +57,17 @@ def start_app(port: int) -> subprocess.Popen:
 
 
 def stop_app(proc: subprocess.Popen) -> None:
-    proc.terminate()
+    """Stop the app and the Streamlit server it started (its own process group, see start_app)."""
+    import signal
+
+    try:
+        os.killpg(proc.pid, signal.SIGTERM)  # the server is a child of `sizing app`: end the group
+    except ProcessLookupError:
+        pass
     try:
         proc.wait(timeout=10)
     except subprocess.TimeoutExpired:
-        proc.kill()
+        os.killpg(proc.pid, signal.SIGKILL)
 
 
 @pytest.fixture(scope="module")

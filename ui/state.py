@@ -167,7 +167,7 @@ def needs_valid_case() -> dict:
     result = check()
     if result["case"] is None:
         st.error("The case has problems to fix before this page can compute "
-                 "(each is shown beside its field on the Case, Drops and bubbles or Surfactant page):\n\n"
+                 "(each is also shown beside its field on the page that edits it):\n\n"
                  + "\n".join(f"- {line}" for line in result["problems"]))
         st.stop()
     return result
