@@ -20,6 +20,9 @@ def build_parser() -> argparse.ArgumentParser:
         prog="sizing",
         description="Size the surfactant dose for an emulsion or a foam and plan the plant trial.",
     )
+    from .. import __version__
+
+    parser.add_argument("--version", action="version", version=f"sizing {__version__}")
     sub = parser.add_subparsers(dest="verb", metavar="COMMAND")
     for verb in VERBS:
         try:
