@@ -115,7 +115,7 @@ class DepletionFit:
                 "source": self.path, "notes": list(self.notes)}
 
 
-def fit_depletion(path, *, partition_coefficient=None) -> DepletionFit:
+def fit_depletion(path, *, partition_coefficient=None, continuous: str = "water") -> DepletionFit:
     """Compute the surface excess of every depletion run and fit Langmuir where rows allow.
 
     Parameters
@@ -163,6 +163,8 @@ def fit_depletion(path, *, partition_coefficient=None) -> DepletionFit:
     if partition_coefficient is not None and not (np.isfinite(partition_coefficient)
                                                   and partition_coefficient >= 0):
         problems.append(f"--partition-coefficient: expected a number >= 0, got {partition_coefficient!r}")
+    if continuous not in ("water", "oil"):
+        problems.append(f"--continuous: expected 'water' or 'oil', got {continuous!r}")
     if problems:
         raise InputError(problems=problems)
 
@@ -176,6 +178,13 @@ def fit_depletion(path, *, partition_coefficient=None) -> DepletionFit:
     p_use = np.where(np.isfinite(p_col), p_col, p_opt)
     measured = np.isfinite(cd_meas)
     from_p = ~measured & np.isfinite(p_use)
+    if continuous == "oil":
+        # P = c_oil/c_water whatever the continuous phase: water drops in oil hold c_c / P
+        if np.any(from_p & (p_use == 0)):
+            raise InputError(f"{p}: partition coefficient 0 with a continuous oil phase means the "
+                             "surfactant does not dissolve in the oil it was dosed into; expected P > 0")
+        with np.errstate(divide="ignore"):
+            p_use = np.where(from_p, 1.0 / p_use, p_use)
     cc = cols["continuous_concentration"]
     vd = cols["dispersed_volume"]
     gamma, sd = surface_excess_by_difference(
@@ -196,7 +205,9 @@ def fit_depletion(path, *, partition_coefficient=None) -> DepletionFit:
         if measured[i]:
             basis = "measured"
         elif from_p[i]:
-            basis = f"partition coefficient {p_use[i]:g} times the continuous concentration"
+            basis = (f"partition coefficient {p_use[i]:g} times the continuous concentration"
+                     if continuous == "water" else
+                     f"continuous (oil) concentration over the partition coefficient {1 / p_use[i]:g}")
         else:
             basis = "assumed zero"
             if vd[i] > 0:

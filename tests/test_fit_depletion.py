@@ -181,3 +181,16 @@ def test_empty_required_cell(tmp_path):
     p = write_csv(tmp_path, HEADER + "\n10,100,20,2,\n")
     with pytest.raises(InputError, match=r"row 2, column 'continuous_concentration \[mM\]': the cell is empty"):
         fit_depletion(p)
+
+
+def test_water_in_oil_runs_use_c_over_p(tmp_path):
+    # P = c_oil/c_water whatever the continuous phase (DESIGN.md convention): in a W/O run the
+    # water drops hold c_c / P.  Hand arithmetic: 10 umol, 100 mL oil at 0.02 mM holds 2 umol;
+    # 20 mL water drops at 0.02/4 mM hold 0.1 umol; over 2 m2: (10 - 2 - 0.1)/2 = 3.95 umol/m2.
+    p = write_csv(tmp_path, HEADER + ",partition_coefficient\n10,100,20,2,0.02,4\n")
+    res = fit_depletion(p, continuous="oil")
+    assert res.rows[0]["surface_excess_mol_m2"] == pytest.approx(3.95e-6, rel=1e-12)
+    assert "over the partition coefficient" in res.rows[0]["dispersed_basis"]
+    zero = write_csv(tmp_path, HEADER + ",partition_coefficient\n10,100,20,2,0.02,0\n", name="zero.csv")
+    with pytest.raises(InputError, match="does not dissolve in the oil"):
+        fit_depletion(zero, continuous="oil")

@@ -39,6 +39,8 @@ def register(subparsers) -> None:
     d.add_argument("data", metavar="DATA.csv")
     d.add_argument("--partition-coefficient", type=float,
                    help="c_oil/c_water for rows without a measured dispersed concentration")
+    d.add_argument("--continuous", choices=("water", "oil"), default="water",
+                   help="continuous phase of the runs (oil: W/O, the water drops hold c/P; default water)")
     d.add_argument("--json", action="store_true", help="print JSON")
     d.set_defaults(func=_depletion)
 
@@ -130,7 +132,8 @@ def _depletion(args) -> int:
     from ..fit import fit_depletion
     from ..units import format_si
 
-    res = fit_depletion(args.data, partition_coefficient=args.partition_coefficient)
+    res = fit_depletion(args.data, partition_coefficient=args.partition_coefficient,
+                        continuous=args.continuous)
     if args.json:
         print(json.dumps(res.to_json(), indent=2))
         return 0
