@@ -157,12 +157,19 @@ def rrsb_volume_density(characteristic_size, spread, diameters):
 
 @dataclass(frozen=True)
 class SizeTable:
-    """Size classes ``[lower, upper]`` [m] with their volume fractions (summing to 1) [-]."""
+    """Size classes ``[lower, upper]`` [m] with their volume fractions (summing to 1) [-].
+
+    ``basis`` says how the table was measured: ``"volume"`` (volume density taken uniform in
+    ln d inside a class) or ``"count"`` (number density uniform in ln d inside a class, with
+    ``number_fraction`` the share of drops per class).
+    """
 
     lower: np.ndarray
     upper: np.ndarray
     volume_fraction: np.ndarray
     source: str = ""
+    basis: str = "volume"
+    number_fraction: np.ndarray | None = None
 
 
 def _mean_power(a, b, m):
@@ -221,12 +228,16 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
         raise InputError(f"{source}: class amounts must be numbers >= 0")
     if np.any(lower <= 0) or np.any(upper <= lower):
         raise InputError(f"{source}: each class needs 0 < lower < upper (sizes must increase)")
+    counts = None
     if kind == "count":
+        if not weights.sum() > 0:
+            raise InputError(f"{source}: the size table holds no drops (all amounts are zero)")
+        counts = weights / weights.sum()
         weights = weights * _mean_power(lower, upper, 3)
     total = weights.sum()
     if not total > 0:
         raise InputError(f"{source}: the size table holds no drops (all amounts are zero)")
-    return SizeTable(lower, upper, weights / total, source)
+    return SizeTable(lower, upper, weights / total, source, kind, counts)
 
 
 def read_size_table(path) -> SizeTable:
@@ -239,24 +250,34 @@ def read_size_table(path) -> SizeTable:
 
 
 def table_stats(table: SizeTable) -> SizeStats:
-    """Return the statistics of a measured size table (log-uniform volume inside each class).
+    """Return the statistics of a measured size table, integrating inside each class.
 
-    Number moments ``M_k ~ sum_i w_i <d**(k-3)>_i``; ``d10 = M1/M0``, ``d32 = M3/M2``,
-    ``d43 = M4/M3``; volume percentiles interpolate the cumulative volume linearly in ln d.
+    Volume tables: volume density uniform in ln d inside a class, number moments
+    ``M_k ~ sum_i w_i <d**(k-3)>_i``.  Count tables: number density uniform in ln d inside a
+    class, ``M_k ~ sum_i n_i <d**k>_i``.  ``d10 = M1/M0``, ``d32 = M3/M2``, ``d43 = M4/M3``;
+    volume percentiles invert the cumulative volume inside the class where it is reached
+    (``x = a (b/a)**f`` for volume tables, ``x**3 = a**3 + f (b**3 - a**3)`` for count tables).
     """
     a, b, w = table.lower, table.upper, table.volume_fraction
+    if table.basis == "count":
+        n = table.number_fraction
 
-    def moment(k):
-        return np.sum(w * _mean_power(a, b, k - 3))
+        def moment(k):
+            return np.sum(n * _mean_power(a, b, k))
+    else:
+        def moment(k):
+            return np.sum(w * _mean_power(a, b, k - 3))
 
-    edges = np.concatenate([[a[0]], b])
     cum = np.concatenate([[0.0], np.cumsum(w)])
-    # classes may not be contiguous; interpolate on the upper edges with the first lower edge
-    lnd = np.log(edges)
-    keep = np.concatenate([[True], np.diff(cum) > 0]) | (np.arange(cum.size) == cum.size - 1)
 
     def pct(p):
-        return float(np.exp(np.interp(p, cum[keep], lnd[keep])))
+        i = int(np.clip(np.searchsorted(cum, p, side="left") - 1, 0, len(w) - 1))
+        while w[i] == 0 and i < len(w) - 1:
+            i += 1
+        f = float(np.clip((p - cum[i]) / w[i], 0.0, 1.0)) if w[i] > 0 else 0.0
+        if table.basis == "count":
+            return float((a[i] ** 3 + f * (b[i] ** 3 - a[i] ** 3)) ** (1.0 / 3.0))
+        return float(a[i] * (b[i] / a[i]) ** f)
 
     return SizeStats(
         d32=moment(3) / moment(2), d10=moment(1) / moment(0), d43=moment(4) / moment(3),
