@@ -378,7 +378,7 @@ def tension_warnings(inputs: Inputs, tension, where: str = "the solved state") -
     belong together at that coverage, so tension outputs there are not to be trusted.
     """
     t = np.asarray(tension, dtype=float)
-    bad = np.isfinite(t) & (t < 0)
+    bad = ~np.isnan(t) & (t < 0)  # -inf at full coverage counts too
     if not np.any(bad):
         return []
     return [
@@ -388,6 +388,41 @@ def tension_warnings(inputs: Inputs, tension, where: str = "the solved state") -
         "surfactant.clean_tension, surfactant.gibbs_prefactor and surfactant.max_surface_excess "
         "(tension outputs there are not reliable; the dose balance itself does not use them)"
     ]
+
+
+# Plausibility limits (common practice, not physics): beyond them the answer is arithmetic on
+# inputs that do not belong together, and the user is told so.
+MAX_ACTIVE_WT_PERCENT = 20.0  # active surfactant per batch mass [%]
+MAX_FREE_MONOMER_KG_M3 = 50.0  # free monomer per volume of continuous phase [kg/m**3] (5 % w/v)
+
+
+def plausibility_warnings(sol: Solution) -> list[str]:
+    """Return warnings when a solved dose or state is far outside anything a plant could use.
+
+    The balance is exact for its inputs, but a target coverage close to 1 without a CMC (a
+    protein, a polymer) or an enormous dose can ask the bulk to hold more surfactant than a
+    solution can: the numbers are then correct arithmetic and useless advice.
+    """
+    out = []
+    i = sol.inputs
+    wt = np.asarray(sol.wt_percent_active, dtype=float)
+    per_volume = np.asarray(sol.kg_active, dtype=float) / np.asarray(i.volume, dtype=float) / 10.0  # % w/v
+    share = wt if np.all(np.isfinite(wt)) else per_volume
+    if np.any(np.isfinite(share) & (share > MAX_ACTIVE_WT_PERCENT)):
+        out.append(
+            f"the dose is {float(np.nanmax(share)):.3g} % active on the batch, far beyond any emulsifier "
+            f"level in practice (flag above {MAX_ACTIVE_WT_PERCENT:g} %): check the inputs, or lower the "
+            "target coverage"
+        )
+    free = np.asarray(sol.state.free_concentration, dtype=float) * np.asarray(i.molar_mass, dtype=float)
+    if np.any(np.isfinite(free) & (free > MAX_FREE_MONOMER_KG_M3)):
+        out.append(
+            f"the free monomer in the continuous phase would be {float(np.nanmax(free)):.3g} kg/m**3 "
+            f"(flag above {MAX_FREE_MONOMER_KG_M3:g} kg/m**3): no monomer solution holds that much; without "
+            "a CMC a coverage close to 1 needs ever more free surfactant, so lower the target coverage "
+            "or check the adsorption constant"
+        )
+    return out
 
 
 def solution_json(sol: Solution, case=None) -> dict:
@@ -449,7 +484,7 @@ def solution_json(sol: Solution, case=None) -> dict:
             "active_fraction": _num(i.active_fraction),
         },
     }
-    out["warnings"] = tension_warnings(i, sol.tension)
+    out["warnings"] = tension_warnings(i, sol.tension) + plausibility_warnings(sol)
     if not feasible:
         out["unreachable"] = (
             f"the target needs a free concentration above the CMC; at equilibrium the coverage "

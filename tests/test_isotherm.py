@@ -90,3 +90,16 @@ def test_errors_name_the_choices():
     # Frumkin beta > 2: two-dimensional phase transition (REFERENCES.md [M]): refused with why
     with pytest.raises(InputError, match="phase transition"):
         theta_of_c(1.0, 1.0, "frumkin", 2.5)
+
+
+def test_frumkin_sign_convention_fixed_point():
+    # DESIGN.md convention K c = theta/(1 - theta) exp(-2 beta theta), beta > 0 attraction:
+    # beta = 1, theta = 1/2 gives K c = exp(-1) and Pi/(n R T Gamma_inf) = ln 2 - 1/4 exactly
+    # (derived by hand from the stated forms); tolerance 1e-12 relative.
+    assert float(c_of_theta(0.5, 1.0, "frumkin", 1.0)) == pytest.approx(np.exp(-1.0), rel=1e-12)
+    assert float(theta_of_c(np.exp(-1.0), 1.0, "frumkin", 1.0)) == pytest.approx(0.5, rel=1e-12)
+    scale = GAS_CONSTANT * T25 * 3e-6
+    pi = pressure_of_theta(0.5, 3e-6, T25, 1, "frumkin", 1.0)
+    assert float(pi) / scale == pytest.approx(np.log(2) - 0.25, rel=1e-12)
+    # attraction lowers the concentration needed for the same coverage
+    assert float(c_of_theta(0.5, 1.0, "frumkin", 1.0)) < float(c_of_theta(0.5, 1.0, "langmuir"))

@@ -161,3 +161,17 @@ def test_negative_tension_is_flagged_not_hidden(capsys):
     assert len(warnings) == 1 and "negative tension" in warnings[0]
     assert any("trial level" in w for w in plan_json(build_plan(bad))["warnings"])
     assert solution_json(solve_case(load_case(LOTION)), None)["warnings"] == []
+
+
+def test_implausible_doses_are_flagged():
+    # Without a CMC a coverage of 0.999999 asks the water to hold ~0.8 kmol/m3 of free monomer:
+    # the arithmetic is right, the advice useless; solve must say so (common practice limits:
+    # 20 % active on the batch, 50 kg/m3 free monomer).
+    case = load_case(LOTION)
+    bad = case_with(case, {"surfactant.cmc": None, "target.coverage": 0.999999})
+    warnings = solution_json(solve_case(bad), bad)["warnings"]
+    assert any("far beyond any emulsifier level" in w for w in warnings)
+    assert any("no monomer solution holds that much" in w for w in warnings)
+    huge = solution_json(solve_case(case, dose="1e9 mol"), case)["warnings"]
+    assert any("far beyond any emulsifier level" in w for w in huge)
+    assert solution_json(solve_case(case), case)["warnings"] == []

@@ -27,6 +27,8 @@ st.caption(f"Target: **{target_text}** · d32 {num(s['d32_m'] * UM, 'um')} · "
            f"area {num(s['interfacial_area_m2'], 'm²')} · safety margin {num(target['margin'] * 100, '%', 3)} "
            "(applied on the Plan page)")
 
+for w in s.get("warnings", []):
+    st.warning("**Check:** " + state.md_escape(w), icon=":material/warning:")
 if not s["feasible"]:
     st.warning("**The target is not reachable at equilibrium.** " + state.view("unreachable_text"),
                icon=":material/block:")

@@ -29,6 +29,8 @@ if plan is not None:
     r = plan["result"]
     rec = r["recommendation"]
     name = result["case"].surfactant.name
+    for w in r.get("warnings", []):
+        st.warning("**Check:** " + state.md_escape(w), icon=":material/warning:")
     if not rec["reaches_target"]:
         st.warning("**The target is not reachable at equilibrium.** " + r.get("unreachable", "")
                    + ". The charge below is built on the dose that reaches the CMC ceiling.",
