@@ -280,7 +280,31 @@ class Surfactant(Section):
             )
         if self.isotherm.strip().lower() != "frumkin" and self.interaction.si != 0:
             raise ValueError("interaction (Frumkin beta) is only used with isotherm = 'frumkin'")
+        self._check_packing()
         return self
+
+    def _check_packing(self) -> None:
+        """Refuse a saturation surface excess no molecule can reach (a unit slip, usually).
+
+        An adsorbed molecule needs at least the cross-section of an alkyl chain, about 0.2 nm**2
+        (common practice); below 0.1 nm**2 per molecule (Gamma_inf above 16.6 umol/m**2) the
+        value is taken as a mistake, e.g. 'umol/um**2' written for 'umol/m**2'.
+        """
+        from .constants import AVOGADRO
+
+        if self.max_surface_excess is None:
+            field, v = "area_per_molecule", self.area_per_molecule
+            gi = 1.0 / (AVOGADRO * v.si)
+        else:
+            field, v = "max_surface_excess", self.max_surface_excess
+            gi = v.si if v.dimension == "surface_excess" else v.si / self.molar_mass.si
+        if gi > 1.0 / (AVOGADRO * 0.1e-18):
+            raise ValueError(
+                f"{field}: {v.raw!r} means {gi * 1e6:.4g} umol/m**2, an area of "
+                f"{1e18 / (AVOGADRO * gi):.3g} nm**2 per molecule; no surfactant packs tighter than about "
+                "0.2 nm**2 (an alkyl chain's cross-section), so expected at most 16.6 umol/m**2 "
+                "(typical 1-6 umol/m**2; check the unit, e.g. 'umol/m**2', not 'umol/um**2')"
+            )
 
 
 class Target(Section):

@@ -46,6 +46,7 @@ class SizeStats:
     dv10: object = np.nan
     dv50: object = np.nan
     dv90: object = np.nan
+    notes: tuple = ()  # warnings about the description (e.g. a table that does not add up)
 
     @property
     def span(self):
@@ -170,6 +171,7 @@ class SizeTable:
     source: str = ""
     basis: str = "volume"
     number_fraction: np.ndarray | None = None
+    notes: tuple = ()
 
 
 def _mean_power(a, b, m):
@@ -189,7 +191,11 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
     - ``upper``, ``volume`` (the first class starts at upper_0**2/upper_1, the geometric step)
     - ``size``, ``undersize`` (cumulative volume % below each size, increasing)
     - ``lower``/``upper`` or ``upper`` with ``count`` (number per class; volume by integration)
+
+    A volume column that does not add up to 100 (or 1) is rescaled and noted in ``notes``.
     """
+    notes: list[str] = []
+
     def need(name):
         if name not in columns:
             raise InputError(f"{source}: size table needs a column {name!r}; found {', '.join(columns)}")
@@ -204,6 +210,9 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
         lower = np.concatenate([[size[0] ** 2 / size[1]], size[:-1]])
         weights = np.diff(np.concatenate([[0.0], cum]))
         kind = "volume"
+        if cum.size and not (abs(cum[-1] - 100.0) <= 2.0 or abs(cum[-1] - 1.0) <= 0.02):
+            notes.append(f"{source}: the cumulative undersize ends at {cum[-1]:g} (expected 100 %, or 1): "
+                         "the classes were rescaled to 100 %; check the table")
     else:
         upper = need("upper")
         if "lower" in columns:
@@ -217,6 +226,10 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
             lower[0] = upper[0] ** 2 / upper[1] if upper.size > 1 else upper[0] / 2
         if "volume" in columns:
             weights, kind = need("volume"), "volume"
+            total = float(np.nansum(weights))
+            if not (abs(total - 100.0) <= 2.0 or abs(total - 1.0) <= 0.02):
+                notes.append(f"{source}: the volume column adds up to {total:g} (expected 100 %, or 1): "
+                             "the classes were rescaled to 100 %; check the table for a typing error")
         elif "count" in columns:
             weights, kind = need("count"), "count"
         else:
@@ -237,7 +250,7 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
     total = weights.sum()
     if not total > 0:
         raise InputError(f"{source}: the size table holds no drops (all amounts are zero)")
-    return SizeTable(lower, upper, weights / total, source, kind, counts)
+    return SizeTable(lower, upper, weights / total, source, kind, counts, tuple(notes))
 
 
 def read_size_table(path) -> SizeTable:
@@ -281,7 +294,7 @@ def table_stats(table: SizeTable) -> SizeStats:
 
     return SizeStats(
         d32=moment(3) / moment(2), d10=moment(1) / moment(0), d43=moment(4) / moment(3),
-        dv10=pct(0.1), dv50=pct(0.5), dv90=pct(0.9),
+        dv10=pct(0.1), dv50=pct(0.5), dv90=pct(0.9), notes=table.notes,
     )
 
 

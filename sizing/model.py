@@ -484,7 +484,8 @@ def solution_json(sol: Solution, case=None) -> dict:
             "active_fraction": _num(i.active_fraction),
         },
     }
-    out["warnings"] = tension_warnings(i, sol.tension) + plausibility_warnings(sol)
+    size_notes = list(getattr(i.size_stats, "notes", ()) or ())
+    out["warnings"] = size_notes + tension_warnings(i, sol.tension) + plausibility_warnings(sol)
     if not feasible:
         out["unreachable"] = (
             f"the target needs a free concentration above the CMC; at equilibrium the coverage "

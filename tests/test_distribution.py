@@ -158,3 +158,13 @@ def test_fine_count_table_approaches_lognormal():
     assert ts.d32 == pytest.approx(s.d32, rel=1e-4)
     assert ts.d10 == pytest.approx(s.d10, rel=1e-4)
     assert ts.dv50 == pytest.approx(s.dv50, rel=1e-4)
+
+
+def test_table_that_does_not_add_up_is_noted():
+    # Volume % that add up to 145 (a typing error) are rescaled, and the user is told.
+    upper = np.array([1, 2, 4, 8]) * 1e-6
+    t = table_from_columns({"upper": upper, "volume": np.array([10, 40, 45, 50.0])}, "sizes.csv")
+    assert t.volume_fraction.sum() == pytest.approx(1.0)
+    assert any("adds up to 145" in n for n in table_stats(t).notes)
+    ok = table_from_columns({"upper": upper, "volume": np.array([10, 40, 40, 10.0])})
+    assert table_stats(ok).notes == ()

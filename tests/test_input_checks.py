@@ -52,3 +52,13 @@ def test_trial_levels_bracket_the_charge(levels, message):
     # The trial matrix has 3 to 5 levels bracketing the recommendation (the plan's contract).
     with pytest.raises(InputError, match=message):
         loads_case(LOTION.replace("levels = [0.8, 1.0, 1.25]", f"levels = {levels}"))
+
+
+def test_impossible_packing_is_refused():
+    # A molecule needs at least an alkyl chain's cross-section, about 0.2 nm**2 (common
+    # practice): 2 umol/um**2 (= 2e6 umol/m**2, a unit slip) must not pass as valid.
+    with pytest.raises(InputError, match=r"surfactant\.max_surface_excess: '2\.0 umol/um\*\*2' means .* no surfactant packs tighter"):
+        loads_case(LOTION.replace('max_surface_excess = "3.3 umol/m**2"', 'max_surface_excess = "2.0 umol/um**2"'))
+    with pytest.raises(InputError, match=r"surfactant\.area_per_molecule: .* no surfactant packs tighter"):
+        loads_case(LOTION.replace('max_surface_excess = "3.3 umol/m**2"', 'area_per_molecule = "0.05 nm**2"'))
+    loads_case(LOTION.replace('max_surface_excess = "3.3 umol/m**2"', 'area_per_molecule = "0.25 nm**2"'))
