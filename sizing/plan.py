@@ -529,6 +529,18 @@ def plan_warnings(plan: Plan) -> list[str]:
     for w in model.tension_warnings(inputs, np.array(tensions, dtype=float), "the charge or a trial level"):
         if w not in out:
             out.append(w)
+    at_ceiling = [t for t in plan.trial if t.micelle_share > 1e-9]
+    if len(at_ceiling) >= 2 and len(plan.trial) - len(at_ceiling) < 2:
+        names = ", ".join(f"{t.level:g} x" for t in at_ceiling)
+        out.append(f"trial levels {names} sit at the CMC ceiling (coverage {at_ceiling[0].coverage:.3g}): "
+                   "they differ only in micelles, so coverage, tension and drop size will hardly tell them "
+                   "apart; put more levels below the charge (e.g. 0.6 x, 0.8 x) to find where the "
+                   "dispersion starts to fail")
+    share = plan.recommendation.micelle_share_at_charge
+    if share > 0.2:
+        out.append(f"{100 * share:.3g} % of the recommended charge forms micelles: the target sits close to the "
+                   "CMC ceiling, and surfactant above the ceiling adds micelles (foaming, depletion "
+                   "flocculation, cost) rather than coverage")
     unc = plan.extras.get("uncertainty", {}).get("json") if isinstance(plan.extras.get("uncertainty"), dict) else None
     if unc and (unc.get("infeasible_fraction") or 0) > 0:
         share = 100 * unc["infeasible_fraction"]

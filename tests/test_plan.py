@@ -211,3 +211,14 @@ def test_cli_plan_json_prints_only_json(tmp_path, capsys):
     assert main(["plan", str(LOTION), "--out", str(tmp_path / "p"), "--json"]) == 0
     j = json.loads(capsys.readouterr().out)  # the whole stdout is one JSON object
     assert j == json.loads((tmp_path / "p" / "result.json").read_text())
+
+
+def test_plan_warns_when_levels_saturate_at_the_cmc():
+    # Coverage 0.90 against a ceiling of 0.9077 (Langmuir, K cmc = 9.84): the 1 x and 1.25 x
+    # levels both reach the CMC, so the trial could not tell them apart.
+    from sizing.plan import build_plan, plan_json
+
+    case = case_with(load_case(LOTION), {"target.coverage": 0.90})
+    j = plan_json(build_plan(case))
+    assert any("sit at the CMC ceiling" in w for w in j["warnings"])
+    assert not any("sit at the CMC ceiling" in w for w in plan_json(build_plan(load_case(LOTION)))["warnings"])
