@@ -2,11 +2,17 @@
 
 ``concentration [mM],tension [mN/m]`` -> columns ``concentration`` and ``tension`` in SI floats.
 Columns without brackets (``replicate``, ``notes``) are kept as they are.  Every problem names
-the file, the row (as a spreadsheet shows it: header = row 1) and the column.
+the file, the row (as a spreadsheet shows it: header = row 1, counting only the rows that are
+not blank or ``#`` comments) and the column.
+
+The separator is taken from the header line: ``,`` (the default), ``;`` or a tab.  In a file
+separated by ``;`` or tabs a decimal comma (``70,2``) is read as a decimal point, as European
+spreadsheet exports write it.
 """
 
 from __future__ import annotations
 
+import io
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -14,9 +20,15 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError
-from .units import parse
+from .units import DIMENSIONS, parse
 
 _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*(?:\[\s*([^\]]*)\s*\])?\s*$")
+# '70,2', '-0,5', ',5', '9,676e-05': a number written with a decimal comma
+_DECIMAL_COMMA = re.compile(r"^[-+]?(?:\d+,\d*|,\d+)(?:[eE][-+]?\d+)?$")
+_SEPARATORS = (",", ";", "\t")
+_SEPARATOR_NAMES = {",": "','", ";": "';'", "\t": "a tab"}
+_GENERIC_EXAMPLE = "'upper [um]' or 'tension [mN/m]'"
+_LISTED = 3  # non-numeric cells listed one by one per column before summarising
 MAX_BYTES = 5 * 1024 * 1024
 
 
@@ -32,16 +44,90 @@ class LabTable:
         return len(next(iter(self.columns.values()))) if self.columns else 0
 
 
-def split_header(cell: str) -> tuple[str, str]:
+def split_header(cell: str, example: str | None = None) -> tuple[str, str]:
     """Split ``'tension [mN/m]'`` into ``('tension', 'mN/m')``; the unit is '' when absent.
 
+    Parameters
+    ----------
+    cell : str
+        One header cell.
+    example : str, optional
+        A well-formed header cell quoted in the error message (default: a generic pair).
+
+    Returns
+    -------
+    tuple of str
+        The column name (lower case, spaces as ``_``) and the unit text ('' for none).
+
+    Raises
+    ------
+    InputError
+        The cell is not ``name`` or ``name [unit]``.
+
+    Examples
+    --------
     >>> split_header('upper [um]')
     ('upper', 'um')
+    >>> split_header('Sample ID')
+    ('sample_id', '')
     """
     m = _HEADER.match(str(cell))
     if not m:
-        raise InputError(f"header cell {cell!r}: expected 'name [unit]', e.g. 'tension [mN/m]'")
+        shown = f"'{example}'" if example else _GENERIC_EXAMPLE
+        raise InputError(f"header cell {cell!r}: expected 'name [unit]', e.g. {shown}")
     return m.group(1).strip().lower().replace(" ", "_"), (m.group(2) or "").strip()
+
+
+def detect_separator(header_line: str) -> str:
+    """Return the cell separator of a CSV from its header line: ``','``, ``';'`` or a tab.
+
+    The separator counted most often outside brackets and quotes wins; ``','`` on a tie
+    (including a one-column header).
+
+    Examples
+    --------
+    >>> detect_separator('concentration [mM];tension [mN/m]')
+    ';'
+    >>> detect_separator('upper [um],volume [%]')
+    ','
+    >>> detect_separator('lower [um]\\tupper [um]\\tvolume [%]') == '\\t'
+    True
+    """
+    bare = re.sub(r'\[[^\]]*\]|"[^"]*"', "", header_line)
+    counts = {sep: bare.count(sep) for sep in _SEPARATORS}
+    best = max(_SEPARATORS, key=lambda sep: counts[sep])  # max keeps the first (',') on a tie
+    return best if counts[best] > 0 else ","
+
+
+def _header_line(text: str) -> str:
+    """Return the first line that is neither blank nor a ``#`` comment ('' if none)."""
+    for line in text.splitlines():
+        content = line.split("#", 1)[0]
+        if content.strip():
+            return content
+    return ""
+
+
+def _example(dimensions: dict[str, str]) -> str | None:
+    """Return ``'name [SI unit]'`` for the first expected column that has a unit."""
+    for name, dim in dimensions.items():
+        si_unit = DIMENSIONS.get(dim, ("", "", ""))[1]
+        if si_unit:
+            return f"{name} [{si_unit}]"
+    return None
+
+
+def _split_decimal(cells: list[str]) -> str | None:
+    """Return the first ``'int,digits'`` pair in a row split at decimal commas, else None."""
+    for a, b in zip(cells, cells[1:]):
+        if re.fullmatch(r"\s*[-+]?\d+", a) and re.fullmatch(r"\d+(?:[eE][-+]?\d+)?\s*", b):
+            return f"{a.strip()},{b.strip()}"
+    return None
+
+
+def _fix_hint(sample: str) -> str:
+    return (f"values like {sample!r} use a decimal comma; write '.' as the decimal point, "
+            "or save the CSV with ';' as the separator")
 
 
 def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] = (),
@@ -51,18 +137,39 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     Parameters
     ----------
     path : str or Path
-        The CSV file (at most 5 MB).
+        The CSV file (at most 5 MB), separated by ``,``, ``;`` or tabs (taken from the header
+        line); with ``;`` or tabs a decimal comma is accepted.
     dimensions : dict
         Column name -> dimension key of :data:`sizing.units.DIMENSIONS` for columns that carry
         a unit; other numeric columns (``replicate``) are read as plain numbers.
     required : tuple of str
         Columns that must be present.
+    text_columns : tuple of str
+        Columns kept as text (object arrays), e.g. ``notes``.
+
+    Returns
+    -------
+    LabTable
+        ``columns[name]`` in SI (a unit column times its unit's SI factor; an empty cell is
+        NaN), ``units[name]`` the unit as written.
 
     Raises
     ------
     InputError
-        Missing file or column, a missing or wrong unit, a non-numeric cell (row and column
-        named), an empty table.
+        Missing file or column, a missing or wrong unit, a malformed header cell, rows with
+        more cells than the header, non-numeric cells (up to three per column listed with row
+        and column, then a count; decimal commas in a ','-separated file in one line per
+        column that names the fix), an empty table.
+
+    Examples
+    --------
+    >>> import tempfile, os
+    >>> d = tempfile.mkdtemp()
+    >>> f = os.path.join(d, 'eu.csv')
+    >>> _ = open(f, 'w').write('concentration [mM];tension [mN/m]\\n0,5;70,2\\n')
+    >>> t = read_lab_csv(f, {'concentration': 'concentration', 'tension': 'tension'})
+    >>> [round(float(t.columns['concentration'][0]), 12), round(float(t.columns['tension'][0]), 12)]
+    [0.5, 0.0702]
     """
     import pandas as pd
 
@@ -72,17 +179,76 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     if p.stat().st_size > MAX_BYTES:
         raise InputError(f"{p}: the file is {p.stat().st_size / 1e6:.1f} MB; at most 5 MB is accepted")
     try:
-        raw = pd.read_csv(p, dtype=str, skip_blank_lines=True, comment="#", keep_default_na=False)
+        text = p.read_text(encoding="utf-8-sig")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{p}: cannot read as CSV ({exc})") from exc
+    sep = detect_separator(_header_line(text))
+    width = max((line.count(sep) for line in text.splitlines()), default=0) + 1
+    try:
+        grid = pd.read_csv(io.StringIO(text), sep=sep, header=None, names=range(width), dtype=str,
+                           skip_blank_lines=True, comment="#", keep_default_na=False)
     except Exception as exc:
         raise InputError(f"{p}: cannot read as CSV ({exc})") from exc
-    if raw.shape[0] == 0:
+    grid = grid.fillna("")
+    if grid.shape[0] == 0:
         raise InputError(f"{p}: no data rows below the header")
+    header = [str(c) for c in grid.iloc[0]]
+    ncols = max((j + 1 for j, c in enumerate(header) if c.strip()), default=0)
+    body = grid.iloc[1:].reset_index(drop=True)
+    if body.shape[0] == 0:
+        raise InputError(f"{p}: no data rows below the header")
+
+    problems: list[str] = []
+    # rows with more cells than the header (often numbers split at a decimal comma)
+    if ncols == 0:
+        raise InputError(f"{p}: the header row is empty; expected cells like "
+                         f"'{_example(dimensions) or 'tension [mN/m]'}'")
+    extra = body.iloc[:, ncols:].map(str.strip).ne("").any(axis=1).to_numpy()
+    if extra.any():
+        rows = np.flatnonzero(extra)
+        first = rows[0]
+        cells = [str(c) for c in body.iloc[first].tolist()]
+        while cells and not cells[-1].strip():
+            cells.pop()
+        more = f" ({len(rows)} rows like this)" if len(rows) > 1 else ""
+        msg = (f"{p}: row {first + 2} has {len(cells)} cells but the header has {ncols} columns"
+               f" separated by {_SEPARATOR_NAMES[sep]}{more}")
+        sample = _split_decimal(cells) if sep == "," else None
+        msg += f"; {_fix_hint(sample)}" if sample else "; expected one cell per header column"
+        problems.append(msg)
+
+    example = _example(dimensions)
+    names: list[tuple[int, str, str, str]] = []  # (position, header cell, name, unit)
+    seen: dict[str, str] = {}
+    for j, cell in enumerate(header[:ncols]):
+        if not cell.strip():
+            if (body.iloc[:, j].str.strip() == "").all():
+                continue  # an empty column (e.g. a trailing separator)
+            cell = f"Unnamed: {j}"
+        try:
+            name, unit = split_header(cell, example)
+        except InputError as exc:
+            problems.append(f"{p}: {exc}")
+            continue
+        if name in seen:
+            if name in dimensions or name in required:
+                problems.append(f"{p}: columns {seen[name]!r} and {cell!r} are both '{name}'; "
+                                "expected each column once")
+                continue
+            k = 1
+            while f"{name}.{k}" in seen:
+                k += 1
+            name = f"{name}.{k}"  # a repeated free column, numbered as pandas numbers it
+        seen[name] = cell
+        names.append((j, cell, name, unit))
+    if problems:
+        raise InputError(problems=problems)
+
     columns: dict = {}
     units: dict = {}
-    problems: list[str] = []
-    for cell in raw.columns:
-        name, unit = split_header(cell)
-        series = raw[cell].str.strip()
+    present = [name for _, _, name, _ in names]  # found in the header, even with a problem
+    for j, cell, name, unit in names:
+        series = body.iloc[:, j].str.strip()
         if name in text_columns:
             columns[name] = series.to_numpy(dtype=object)
             units[name] = ""
@@ -93,45 +259,47 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
                 f"{p}: column {cell!r} has no unit; write it in brackets, e.g. '{name} [unit]'"
             )
             continue
-        values = np.empty(len(series))
-        scale = None
-        for i, text in enumerate(series):
-            if text == "":
-                values[i] = np.nan
+        numbers = np.full(len(series), np.nan)
+        bad: list[tuple[int, str]] = []
+        comma: list[tuple[int, str]] = []
+        for i, cell_text in enumerate(series):
+            if cell_text == "":
                 continue
+            if sep != "," and _DECIMAL_COMMA.match(cell_text):
+                cell_text = cell_text.replace(",", ".")
             try:
-                number = float(text)
+                numbers[i] = float(cell_text)
             except ValueError:
-                problems.append(f"{p}: row {i + 2}, column {cell!r}: {text!r} is not a number")
-                values[i] = np.nan
+                (comma if _DECIMAL_COMMA.match(cell_text) else bad).append((i, cell_text))
+        if comma:
+            i, cell_text = comma[0]
+            count = f" ({len(comma)} cells)" if len(comma) > 1 else ""
+            problems.append(f"{p}: column {cell!r}, from row {i + 2}{count}: {_fix_hint(cell_text)}")
+        for i, cell_text in bad[:_LISTED]:
+            problems.append(f"{p}: row {i + 2}, column {cell!r}: {cell_text!r} is not a number")
+        if len(bad) > _LISTED:
+            problems.append(f"{p}: column {cell!r}: ... and {len(bad) - _LISTED} more in this "
+                            f"column (up to row {bad[-1][0] + 2}) that are not numbers")
+        if comma or bad:
+            continue
+        values = numbers
+        if dim and unit:
+            field = f"{p}: column {cell!r}"
+            try:
+                if dim == "temperature":  # offset units: convert each value
+                    values = np.array([parse(f"{x} {unit}", field, dim) if np.isfinite(x) else np.nan
+                                       for x in numbers])
+                else:  # every other unit is a plain factor
+                    values = numbers * parse(f"1 {unit}", field, dim)
+            except InputError as exc:
+                problems.append(str(exc))
                 continue
-            if dim and unit:
-                if scale is None:  # units are linear except temperature
-                    try:
-                        if dim == "temperature":
-                            scale = ("temp", unit)
-                        else:
-                            scale = parse(f"1 {unit}", f"{p}: column {cell!r}", dim)
-                    except InputError as exc:
-                        problems.append(str(exc))
-                        break
-                if isinstance(scale, tuple):
-                    values[i] = parse(f"{number} {unit}", f"{p}: column {cell!r}", dim)
-                else:
-                    values[i] = number * scale
-            elif unit and not dim:
-                if unit == "%":
-                    values[i] = number  # percentages stay in percent for free-form columns
-                else:
-                    values[i] = number
-            else:
-                values[i] = number
         columns[name] = values
         units[name] = unit
-    missing = [c for c in required if c not in columns]
+    missing = [c for c in required if c not in present]
     if missing:
         problems.append(
-            f"{p}: missing column(s) {', '.join(missing)}; found {', '.join(columns) or 'none'}"
+            f"{p}: missing column(s) {', '.join(missing)}; found {', '.join(present) or 'none'}"
         )
     if problems:
         raise InputError(problems=problems)
