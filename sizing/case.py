@@ -258,7 +258,7 @@ class Surfactant(Section):
     partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
     clean_tension: Q("tension", gt=0) | None = None
     price_per_kg: Q("dimensionless", ge=0) | None = None
-    currency: str = "EUR"
+    currency: str = ""
     diffusivity: Q("diffusivity", gt=0) | None = None
 
     @model_validator(mode="after")
@@ -281,6 +281,8 @@ class Surfactant(Section):
         if self.isotherm.strip().lower() != "frumkin" and self.interaction.si != 0:
             raise ValueError("interaction (Frumkin beta) is only used with isotherm = 'frumkin'")
         self._check_packing()
+        if self.price_per_kg is not None and not self.currency.strip():
+            raise ValueError("currency: give the currency of price_per_kg, e.g. currency = 'EUR'")
         return self
 
     def _check_packing(self) -> None:

@@ -448,7 +448,10 @@ def solution_json(sol: Solution, case=None) -> dict:
         "feasible": feasible,
         "max_coverage": _num(sol.max_coverage),
         "d32_m": _num(sol.d32),
-        **({"lab_d32_m": _num(i.lab_d32)} if getattr(case, "scaleup", None) is not None else {}),
+        **({"lab_d32_m": _num(i.lab_d32),
+            "size_m_basis": "size_m describes the lab drops of [drops]; d32_m and the area use the "
+                            "plant d32 predicted by [scaleup]"}
+           if getattr(case, "scaleup", None) is not None else {}),
         "interfacial_area_m2": area,
         "dose": dose,
         "state": {

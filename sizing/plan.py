@@ -317,8 +317,11 @@ def assumptions(case, inputs: model.Inputs) -> list[dict]:
     prov = case.provenance or {}
     fitted = set(prov.get("keys_from_file", ()))
     out = []
+    stirred = getattr(getattr(case, "scaleup", None), "method", None) == "stirred_tank"
     for path, v in case.quantities().items():
         section, _, key = path.partition(".")
+        if path == "scaleup.weber_exponent" and not stirred:
+            continue  # only the stirred-tank rule uses it
         if _raw_has(case, path):
             src = "case file"
         elif section == "surfactant" and key in fitted:
@@ -542,6 +545,8 @@ def plan_warnings(plan: Plan) -> list[str]:
                    "CMC ceiling, and surfactant above the ceiling adds micelles (foaming, depletion "
                    "flocculation, cost) rather than coverage")
     unc = plan.extras.get("uncertainty", {}).get("json") if isinstance(plan.extras.get("uncertainty"), dict) else None
+    if unc:
+        out += [n for n in unc.get("notes", []) if n not in out]
     if unc and (unc.get("infeasible_fraction") or 0) > 0:
         share = 100 * unc["infeasible_fraction"]
         pct = unc.get("percentile", 90.0)

@@ -300,6 +300,10 @@ def render_d32_chart(plan) -> str:
     body = chart(draw, f"What if the plant makes other drops: dose against d32 from "
                        f"{q(lo, 'um', scale=1e6)} to {q(hi, 'um', scale=1e6)}, all else as in the case.")
     body += table(rows, ("d32 [um]", "dose [kg product]", "charge [kg product]"), numeric_cols=(0, 1, 2))
+    if "uncertainty" in plan.extras:
+        body += ('<p>These what-if doses and charges are for the nominal inputs. The '
+                 'recommendation covers the chosen percentile of the spreads (see the Monte Carlo '
+                 'below), so its charge sits above this curve.</p>')
     return section("d32", "Dose against d32 (what-if)", body)
 
 

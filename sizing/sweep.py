@@ -60,6 +60,11 @@ def _dimension(case, path: str) -> str:
     if path in EXTRA_DIMENSIONS:
         return EXTRA_DIMENSIONS[path]
     known = sorted(set(q) | set(EXTRA_DIMENSIONS))
+    twins = {"batch.volume": "batch.mass", "batch.mass": "batch.volume"}
+    if path in twins and twins[path] in q:
+        other = twins[path]
+        raise InputError(f"--vary {path}: this case gives the batch size as {other.split('.')[1]} "
+                         f"({other}); vary {other.split('.')[1]} instead, or give the case a {path.split('.')[1]}")
     import difflib
 
     close = difflib.get_close_matches(path, known + list(ALIASES), n=1, cutoff=0.6)

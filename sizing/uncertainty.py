@@ -113,9 +113,6 @@ def _check_used(case, spreads: dict) -> None:
         if v.spread[0] == "lognormal" and not v.si > 0:
             problems.append(f"{path}: a log-normal spread (rel_sd) needs a value > 0, got {v.raw!r}; "
                             "give low and high for a uniform spread instead")
-        elif path in NOT_IN_DOSE:
-            problems.append(f"{path}: carries a spread but does not change the dose ({NOT_IN_DOSE[path]}); "
-                            "remove the spread")
         elif path == "drops.d32" and getattr(case, "scaleup", None) is not None \
                 and case.scaleup.method == "power_law":
             problems.append("drops.d32: carries a spread, but with [scaleup] method = 'power_law' the plant d32 "
@@ -161,6 +158,7 @@ class MonteCarlo:
     dose_mol: np.ndarray
     deterministic_kg_product: float
     infeasible_fraction: float
+    notes: tuple = ()
 
     def quantile_kg_product(self, percent) -> np.ndarray:
         """Return dose percentiles [kg of product] (inf where more draws are unreachable)."""
@@ -203,8 +201,9 @@ def monte_carlo(case, samples: int | None = None, seed: int | None = None) -> Mo
     spreads = case.spreads()
     _check_used(case, spreads)
     plant = _plant_d32_spread(case)
-    if spreads:
-        sensitivity(case)  # refuses spreads that move nothing (one small solve)
+    notes = tuple(f"{path}: carries a spread but does not change the dose ({NOT_IN_DOSE[path]}); "
+                  "it is left out of the Monte Carlo" for path in sorted(spreads) if path in NOT_IN_DOSE)
+    spreads = {p: v for p, v in spreads.items() if p not in NOT_IN_DOSE}
     if not spreads and plant is None:
         raise InputError(
             "uncertainty: no input carries a spread; write e.g. d32 = { value = '2.4 um', rel_sd = 0.15 } "
@@ -228,7 +227,8 @@ def monte_carlo(case, samples: int | None = None, seed: int | None = None) -> Mo
     det_kg = float(det.kg_product) if bool(np.all(det.feasible)) else math.nan
     return MonteCarlo(samples=n, seed=seed, percentile=percentile, paths=tuple(draws), draws=draws,
                       dose_kg_product=np.broadcast_to(kg, (n,)), dose_mol=np.broadcast_to(mol, (n,)),
-                      deterministic_kg_product=det_kg, infeasible_fraction=float(np.mean(~feasible)))
+                      deterministic_kg_product=det_kg, infeasible_fraction=float(np.mean(~feasible)),
+                      notes=notes)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -243,14 +243,13 @@ def sensitivity(case) -> list[dict]:
     (``|high - low|``), ``elasticity`` (d ln dose / d ln x at the value; nan for a value <= 0).
     One solve call for all inputs.
 
-    Raises
-    ------
-    InputError
-        A spread on a field that does not enter the dose, found by the swings (no change at all).
+    An input whose swing changes nothing (e.g. the temperature under a coverage target, which
+    enters only the tension) is kept with ``moves_dose = False``; :func:`uncertainty_json`
+    turns it into a note rather than an error, so one uncertainty spec serves many cases.
     """
     from .model import case_inputs, solve
 
-    spreads = dict(case.spreads())
+    spreads = {p: v for p, v in case.spreads().items() if p not in NOT_IN_DOSE}
     _check_used(case, spreads)
     base = case.values()
     entries = []
@@ -286,10 +285,8 @@ def sensitivity(case) -> list[dict]:
             and d_p > 0 else math.nan
         same = np.allclose([d_lo, d_hi], kg[-1], rtol=1e-12, atol=0) and path in spreads
         wt_changes = _other_output_changes(case, path, lo, hi) if same else True
-        if same and not wt_changes:
-            problems.append(f"{path}: carries a spread but does not change the dose or any dose output in this "
-                            f"case (value {spreads[path].raw!r}); remove the spread")
         out.append({"path": path, "value_si": x0, "low_si": lo, "high_si": hi,
+                    "moves_dose": not (same and not wt_changes),
                     "dose_low_kg": float(d_lo), "dose_high_kg": float(d_hi),
                     "swing_kg": float(abs(d_hi - d_lo)) if math.isfinite(d_hi - d_lo) else math.inf,
                     "elasticity": el})
@@ -374,9 +371,15 @@ def uncertainty_json(case, mc: MonteCarlo | None = None, charge_kg_product: floa
         "sampling": "rel_sd: log-normal with mean = value and that coefficient of variation; low/high: uniform",
         "inputs": inputs,
     }
+    notes = list(mc.notes)
     if with_sensitivity:
+        sens = sensitivity(case)
         out["sensitivity"] = [{k: (f(v) if isinstance(v, float) else v) for k, v in e.items()}
-                              for e in sensitivity(case)]
+                              for e in sens]
+        notes += [f"{e['path']}: carries a spread but does not change the dose or any dose output in this "
+                  "case (in this model it enters only the tension or other outputs); its spread has no "
+                  "effect" for e in sens if not e.get("moves_dose", True)]
+    out["notes"] = notes
     return out
 
 

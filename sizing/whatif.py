@@ -20,6 +20,11 @@ import math
 import numpy as np
 
 
+def _input_name(path: str) -> str:
+    """Name a sampled input for charts and tables (the scale-up band is not a case field)."""
+    return "plant d32 (scale-up band)" if path == "scaleup.plant_d32" else path
+
+
 def _num(x):
     x = float(x)
     return x if math.isfinite(x) else None
@@ -27,9 +32,10 @@ def _num(x):
 
 def plan_monte_carlo(case):
     """Return the Monte Carlo of a case for its plan, or None when nothing is uncertain."""
-    from .uncertainty import _plant_d32_spread, monte_carlo
+    from .uncertainty import NOT_IN_DOSE, _plant_d32_spread, monte_carlo
 
-    if not case.spreads() and (case.uncertainty is None or _plant_d32_spread(case) is None):
+    moving = [p for p in case.spreads() if p not in NOT_IN_DOSE]
+    if not moving and (case.uncertainty is None or _plant_d32_spread(case) is None):
         return None
     return monte_carlo(case)
 
@@ -159,7 +165,7 @@ def render_uncertainty(plan) -> str:
     def draw_tornado(fig):
         ax = fig.add_subplot()
         base = j["deterministic_kg_product"] or 0.0
-        names = [s["path"] for s in sens][::-1]
+        names = [_input_name(s["path"]) for s in sens][::-1]
         for i, s in enumerate(sens[::-1]):
             lo, hi = s["dose_low_kg"], s["dose_high_kg"]
             if lo is None or hi is None:
@@ -186,7 +192,7 @@ def render_uncertainty(plan) -> str:
     if sens:
         body += chart(draw_tornado, "Sensitivity (tornado): the dose with each input at its P10 and P90 "
                                     "(low and high for a uniform spread), the others at their values.")
-        body += table([(s["path"], q(s["dose_low_kg"], "kg"), q(s["dose_high_kg"], "kg"),
+        body += table([(_input_name(s["path"]), q(s["dose_low_kg"], "kg"), q(s["dose_high_kg"], "kg"),
                         q(s["elasticity"], "(-)")) for s in sens],
                       ("input", "dose at low [kg]", "dose at high [kg]", "elasticity d ln dose / d ln x"),
                       numeric_cols=(1, 2, 3))

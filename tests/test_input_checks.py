@@ -62,3 +62,9 @@ def test_impossible_packing_is_refused():
     with pytest.raises(InputError, match=r"surfactant\.area_per_molecule: .* no surfactant packs tighter"):
         loads_case(LOTION.replace('max_surface_excess = "3.3 umol/m**2"', 'area_per_molecule = "0.05 nm**2"'))
     loads_case(LOTION.replace('max_surface_excess = "3.3 umol/m**2"', 'area_per_molecule = "0.25 nm**2"'))
+
+
+def test_price_needs_its_currency():
+    with pytest.raises(InputError, match=r"surfactant\.currency: give the currency of price_per_kg"):
+        loads_case(LOTION.replace('currency = "EUR"', ""))
+    loads_case(LOTION.replace('currency = "EUR"', "").replace("price_per_kg = 1.8", ""))
