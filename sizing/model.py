@@ -329,17 +329,20 @@ def solve(inputs: Inputs, dose_mol=None) -> Solution:
 
 def parse_dose(text, molar_mass: float, field: str = "--dose") -> float:
     """Return a dose of active [mol] from text: a mass (``"12 kg"``) or an amount (``"40 mol"``)."""
+    value = None
     try:
-        return parse(text, field, "amount")
+        value = parse(text, field, "amount")
     except InputError:
-        pass
-    try:
-        return parse(text, field, "mass") / molar_mass
-    except InputError:
-        raise InputError(
-            f"{field}: expected the active amount per batch as a mass ('12 kg') or an amount "
-            f"of substance ('40 mol'), got {text!r}"
-        ) from None
+        try:
+            value = parse(text, field, "mass") / molar_mass
+        except InputError:
+            raise InputError(
+                f"{field}: expected the active amount per batch as a mass ('12 kg') or an amount "
+                f"of substance ('40 mol'), got {text!r}"
+            ) from None
+    if not value >= 0:
+        raise InputError(f"{field}: expected an amount of active >= 0, got {text!r}")
+    return value
 
 
 def solve_case(case, dose: str | float | None = None, overrides: dict | None = None) -> Solution:

@@ -21,9 +21,22 @@ def run(args) -> int:
     from ..sweep import sweep
     from .common import write_atomic
 
+    import sys
+
     case = load_case(args.case)
     df = sweep(case, args.vary)
     print(df.to_string(index=False, float_format=lambda x: f"{x:.5g}"))
+    for col in df.columns[:len(args.vary)]:
+        others = [c for c in df.columns[:len(args.vary)] if c != col]
+        dose = next((c for c in df.columns if c.startswith("dose product")), None)
+        if dose is None:
+            break
+        groups = df.groupby(others)[dose] if others else [(None, df[dose])]
+        flat = all(g.nunique(dropna=False) <= 1 for _, g in groups)
+        if flat:
+            print(f"note: the dose does not change with {col} in this case"
+                  + (" (the temperature enters only the tension, through R T in the equation of state; the "
+                     "isotherm constants are taken as given)" if "temperature" in col else ""), file=sys.stderr)
     if args.csv:
         write_atomic(args.csv, df.to_csv(index=False, float_format="%.10g"))
         print(f"\nwrote {args.csv}")
