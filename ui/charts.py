@@ -15,18 +15,50 @@ MN = 1e3  # N/m -> mN/m for display
 
 
 def num(x, unit: str = "", digits: int = 3) -> str:
-    """Return ``x`` with ``digits`` significant figures and its unit; 'n/a' for None or nan."""
+    """Return ``x`` with ``digits`` significant figures and its unit; 'n/a' for None or nan.
+
+    A power of ten is written short (``1.58e6``, ``2.5e-5``, not ``1.58e+06``) so that a metric
+    tile keeps room for the unit.
+
+    >>> num(1.5831e6, "m²")
+    '1.58e6 m²'
+    >>> num(0.000012345, "s")
+    '1.23e-5 s'
+    >>> num(2.18, "mg/m²")
+    '2.18 mg/m²'
+    """
     if x is None or (isinstance(x, float) and not math.isfinite(x)):
         return "n/a"
-    return f"{sig(x, digits)} {unit}".strip()
+    text = sig(x, digits)
+    mantissa, e, power = text.partition("e")
+    if e:
+        text = f"{mantissa}e{int(power)}"
+    return f"{text} {unit}".strip()
 
 
-def _rule(value: float, label: str, color: str, axis: str = "x", row: int = 0) -> alt.LayerChart:
+def tiles(items: list[tuple], per_row: int = 3, where=None) -> None:
+    """Draw metric tiles ``(label, value[, help])`` in rows of ``per_row`` equal columns.
+
+    Three tiles per row leave a value with its unit (``9.79e6 m²/m³``, ``2.8 µmol/m²``) whole at a
+    1200 px window with the sidebar open; four or five per row cut it off with an ellipsis.
+    """
+    where = where or st
+    for start in range(0, len(items), per_row):
+        cols = where.columns(per_row)
+        for col, item in zip(cols, items[start:start + per_row]):
+            label, value, *rest = item
+            help_text = rest[0] if rest else None
+            col.metric(label, value, help=help_text)
+
+
+def _rule(value: float, label: str, color: str, axis: str = "x", row: int = 0,
+          align: str = "left") -> alt.LayerChart:
     df = pd.DataFrame({"v": [value], "label": [label]})
     enc = {axis: alt.X("v:Q") if axis == "x" else alt.Y("v:Q")}
     line = alt.Chart(df).mark_rule(color=color, strokeDash=[6, 4], size=2).encode(
         **enc, tooltip=[alt.Tooltip("label:N", title="marker"), alt.Tooltip("v:Q", title="value", format=".3g")])
-    text = alt.Chart(df).mark_text(align="left", dx=4, dy=-6, color=color, fontSize=11).encode(
+    text = alt.Chart(df).mark_text(align=align, dx=4 if align == "left" else -4, dy=-6, color=color,
+                                   fontSize=11).encode(
         **enc, text="label:N", **({"y": alt.value(12 + 14 * row)} if axis == "x" else {"x": alt.value(4)}))
     return line + text
 
@@ -136,7 +168,9 @@ def histogram_from_bins(edges, counts, title: str, markers: dict[str, float]) ->
     layers = bars
     colors = ["#2ca02c", "#d62728", "#2ca02c", "#555555"]
     for i, (label, v) in enumerate(markers.items()):
-        layers = layers + _rule(v, f"{label} {sig(v, 3)} kg", colors[i % len(colors)], row=i % 2)
+        # the lowest marker's label to the left of its line, so the next line does not cross it
+        layers = layers + _rule(v, f"{label} {sig(v, 3)} kg", colors[i % len(colors)], row=i % 2,
+                                align="right" if i == 0 and len(markers) > 1 else "left")
     return layers.properties(height=280)
 
 
@@ -200,12 +234,13 @@ def adsorption_panel(view: dict, where=None) -> None:
                    "ceiling (see the Dose balance page).", icon=":material/info:")
         return
     j = view["check"]
-    m = where.columns(4)
-    m[0].metric("Adsorption depth h = Gamma/c", num(j["depth_m"] * UM, "um"))
-    m[1].metric("Diffusion time tau_D = h²/D", num(j["diffusion_time_s"], "s"),
-                help=f"Ward-Tordai short-time estimate {num(j['ward_tordai_time_s'], 's')}")
-    m[2].metric("Residence time t_res", num(j["residence_time_s"], "s"))
-    m[3].metric("tau_D / t_res", num(j["ratio"], "(-)"), help=f"flagged above {j['threshold']:g}")
+    tiles([("Adsorption depth h", num(j["depth_m"] * UM, "um"), "h = Gamma / c: the depth of continuous phase "
+            "that holds as much surfactant as the interface carries"),
+           ("Diffusion time tau_D", num(j["diffusion_time_s"], "s"),
+            f"tau_D = h² / D; Ward-Tordai short-time estimate {num(j['ward_tordai_time_s'], 's')}"),
+           ("Residence time t_res", num(j["residence_time_s"], "s"), "time in the homogeniser's break-up zone"),
+           ("tau_D / t_res", num(j["ratio"], "(-)"), f"flagged above {j['threshold']:g}")],
+          per_row=4, where=where)
     figures = (f"free monomer {num(j['free_concentration_mol_m3'], 'mM')}, surface excess "
                f"{num(j['surface_excess_mol_m2'] * 1e6, 'umol/m²')}, D {num(j['diffusivity_m2_s'], 'm²/s')}")
     if status == "flagged":

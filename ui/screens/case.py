@@ -16,7 +16,7 @@ st.caption("Build the case: every value carries its unit as text (for example '2
 
 # ---- where the case comes from ---------------------------------------------------------------
 with st.container(border=True):
-    c1, c2, c3 = st.columns([1, 1, 2])
+    c1, c2, c3 = st.columns([1.3, 1.3, 2])
     if c1.button("Load the demo case", key="btn_demo", icon=":material/science:"):
         data, folder = views.load_demo()
         state.set_case(data, "demo case", folder)
@@ -98,7 +98,7 @@ with right:
         field("target.free_concentration", "Target free monomer concentration [e.g. 0.5 mM]")
     field("target.margin", "Safety margin on the dose [-]", kind="number", help="0.15 = 15 % more than the balance")
 
-    st.subheader("Recommendation and trial")
+    st.subheader("Charge and trial")
     field("recommendation.increment", "Round the charge up to [mass, e.g. 0.5 kg]", optional=True)
     field("trial.levels", "Trial levels [multiples of the recommended dose]", kind="list",
           placeholder="0.8, 1.0, 1.25", optional=True)
@@ -117,14 +117,16 @@ with st.expander("Uncertainty (Monte Carlo settings)", expanded=False):
 # ---- save ----------------------------------------------------------------------------------
 st.divider()
 result = state.check()
-s1, s2 = st.columns([1, 3])
+s1, s2 = st.columns([1, 2])
 slug = re.sub(r"[^a-z0-9]+", "_", str(state.get("case.title") or "case").lower()).strip("_") or "case"
-s1.download_button("Save the case as TOML", data=result["toml"], file_name=f"{slug}.toml",
-                   mime="application/toml", key="dl_case_toml", icon=":material/download:")
+s1.download_button("Save the case (TOML)", data=result["toml"], file_name=f"{slug}.toml",
+                   mime="application/toml", key="dl_case_toml", icon=":material/download:",
+                   help=f"saved as {slug}.toml")
 if result["problems"]:
     s2.warning(f"The case has {len(result['problems'])} problem(s); the saved file will be refused by "
                "the command line until they are fixed.", icon=":material/warning:")
 else:
     s2.success("The case is valid; `sizing solve CASE.toml` accepts the saved file.", icon=":material/check:")
+st.caption(f"The case is saved as `{slug}.toml`.")
 with st.expander("Case file preview (TOML)"):
     st.code(result["toml"], language="toml")

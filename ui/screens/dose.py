@@ -36,23 +36,25 @@ if not s["feasible"]:
 else:
     dose = s["dose"]
     with st.container(border=True):
-        m = st.columns(4)
-        m[0].metric("Product as delivered", num(dose["kg_product"], "kg"), help="per batch, before the margin")
-        m[1].metric("Active", num(dose["kg_active"], "kg"), help=f"{num(dose['mol'], 'mol')} per batch")
-        m[2].metric("Of batch mass", num(dose["wt_percent"], "wt%"), help="product as delivered")
-        m[3].metric("Per litre of batch", num(dose["g_per_l"], "g/L"), help="product as delivered")
-        m = st.columns(4)
-        m[0].metric("Per interfacial area", num(dose["mg_per_m2"], "mg/m²"), help="active")
-        m[1].metric("On dispersed phase (by mass)", num(dose.get("percent_on_dispersed"), "%"), help="product")
-        m[2].metric("Cost per batch", num(dose.get("cost"), currency))
-        m[3].metric("Largest coverage (CMC)", num(s["max_coverage"], ""))
+        charts.tiles([
+            ("Product as delivered", num(dose["kg_product"], "kg"), "per batch, before the margin"),
+            ("Active", num(dose["kg_active"], "kg"), f"per batch: {num(dose['mol'], 'mol')}"),
+            ("Of batch mass", num(dose["wt_percent"], "wt%"), "product as delivered, per batch mass"),
+            ("Per litre of batch", num(dose["g_per_l"], "g/L"), "product as delivered"),
+            ("Per interfacial area", num(dose["mg_per_m2"], "mg/m²"), "active per m² of interface"),
+            ("On dispersed phase", num(dose.get("percent_on_dispersed"), "%"),
+             "product as delivered, by mass of the dispersed phase"),
+            ("Cost per batch", num(dose.get("cost"), currency), "product as delivered, before the margin"),
+            ("Largest coverage", num(s["max_coverage"], "(-)"), "the most any dose reaches: the coverage at the CMC, where the surfactant has one"),
+        ])
 
 st_ = s["state"]
-m = st.columns(4)
-m[0].metric("Free monomer", num(st_["free_concentration_mol_m3"], "mM"))
-m[1].metric("Coverage", num(st_["coverage"], ""))
-m[2].metric("Surface excess", num(st_["surface_excess_mol_m2"] * 1e6, "µmol/m²"))
-m[3].metric("Tension", num(st_["tension_N_m"] and st_["tension_N_m"] * MN, "mN/m"))
+charts.tiles([
+    ("Free monomer", num(st_["free_concentration_mol_m3"], "mM"), "in the continuous phase, at equilibrium"),
+    ("Coverage", num(st_["coverage"], "(-)"), "surface excess over its saturated value"),
+    ("Surface excess", num(st_["surface_excess_mol_m2"] * 1e6, "µmol/m²")),
+    ("Tension", num(st_["tension_N_m"] and st_["tension_N_m"] * MN, "mN/m")),
+])
 if st_["at_cmc_ceiling"]:
     st.caption("The state shown is at the CMC ceiling.")
 

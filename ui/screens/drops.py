@@ -74,12 +74,13 @@ with right:
         st.stop()
     s = result["summary"]
     size = s["size_m"]
-    m = st.columns(5)
-    m[0].metric("d32", num(s["d32_m"] * UM, "um"))
-    m[1].metric("dv50", num(size.get("dv50") and size["dv50"] * UM, "um"))
-    m[2].metric("d43", num(size.get("d43") and size["d43"] * UM, "um"))
-    m[3].metric("d10", num(size.get("d10") and size["d10"] * UM, "um"))
-    m[4].metric("span", num(size.get("span"), ""), help="(dv90 - dv10) / dv50 on the volume distribution")
+    charts.tiles([
+        ("d32", num(s["d32_m"] * UM, "um"), "Sauter mean diameter: sum of d³ over sum of d²"),
+        ("dv50", num(size.get("dv50") and size["dv50"] * UM, "um"), "volume median diameter"),
+        ("d43", num(size.get("d43") and size["d43"] * UM, "um"), "volume-weighted mean diameter"),
+        ("d10", num(size.get("d10") and size["d10"] * UM, "um"), "number mean diameter"),
+        ("span", num(size.get("span"), "(-)"), "(dv90 - dv10) / dv50 on the volume distribution"),
+    ])
     try:
         curve = state.view("size_curve")
     except InputError as exc:
@@ -92,10 +93,11 @@ with right:
         charts.draw("size_distribution", curve, key="chart_sizes")
     a = s["area"]
     st.subheader("Interfacial area")
-    m = st.columns(2) + st.columns(2)
-    m[0].metric("per batch", num(a["per_batch_m2"], "m²"))
-    m[1].metric("per m³ of dispersion", num(a["per_m3_dispersion_m2_m3"], "m²/m³"))
-    m[2].metric("per m³ of continuous phase", num(a["per_m3_continuous_m2_m3"], "m²/m³"))
-    m[3].metric("per kg of dispersed phase", num(a.get("per_kg_dispersed_m2_kg"), "m²/kg"))
+    charts.tiles([
+        ("per batch", num(a["per_batch_m2"], "m²")),
+        ("per m³ of dispersion", num(a["per_m3_dispersion_m2_m3"], "m²/m³")),
+        ("per m³ of continuous phase", num(a["per_m3_continuous_m2_m3"], "m²/m³")),
+        ("per kg of dispersed phase", num(a.get("per_kg_dispersed_m2_kg"), "m²/kg")),
+    ], per_row=2)
     st.caption(f"A = s · 6 V_d / d32 with V_d = {num(s['phases']['dispersed_volume_m3'], 'm³')} of "
                f"{s['phases']['dispersed']} drops or bubbles.")

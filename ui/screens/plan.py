@@ -39,12 +39,12 @@ if plan is not None:
             st.markdown(f"- {o}")
     with st.container(border=True):
         st.subheader("Recommended charge per batch")
-        m = st.columns(4)
-        m[0].metric("Product as delivered", num(rec["kg_product_per_batch"], "kg", 4), help=name)
-        m[1].metric("Active", num(rec["kg_active_per_batch"], "kg", 4),
-                    help=f"{num(rec['mol_per_batch'], 'mol')}")
-        m[2].metric("Of batch mass", num(rec["wt_percent"], "wt%"))
-        m[3].metric("Cost per batch", num(rec["cost_per_batch"], rec["currency"], 4))
+        charts.tiles([
+            ("Product as delivered", num(rec["kg_product_per_batch"], "kg", 4), f"{name}, per batch"),
+            ("Active", num(rec["kg_active_per_batch"], "kg", 4), f"per batch: {num(rec['mol_per_batch'], 'mol')}"),
+            ("Of batch mass", num(rec["wt_percent"], "wt%"), "product as delivered, per batch mass"),
+            ("Cost per batch", num(rec["cost_per_batch"], rec["currency"], 4), "product as delivered"),
+        ])
         st.caption(
             f"Built on {num(rec['base_kg_product'], 'kg')} of product "
             f"{'for the target' if rec['reaches_target'] else 'at the CMC ceiling'}, margin "
@@ -77,17 +77,19 @@ if plan is not None:
 
     st.subheader("Downloads")
     files = plan["files"]
-    c = st.columns(4)
-    c[0].download_button("report.html", data=files["report.html"], file_name="report.html", mime="text/html",
-                         key="dl_report", icon=":material/download:")
-    c[1].download_button("result.json", data=files["result.json"], file_name="result.json",
-                         mime="application/json", key="dl_result", icon=":material/download:")
-    c[2].download_button("trial_plan.csv", data=files["trial_plan.csv"], file_name="trial_plan.csv",
-                         mime="text/csv", key="dl_trial", icon=":material/download:")
-    c[3].download_button(f"{slug}.toml", data=result["toml"], file_name=f"{slug}.toml",
-                         mime="application/toml", key="dl_plan_case", icon=":material/download:")
-    st.caption("The same files as `sizing plan CASE.toml --out DIR`; keep any size table or fitted block the "
-               "case names beside the TOML file.")
+    with st.container(horizontal=True):
+        st.download_button("report.html", data=files["report.html"], file_name="report.html", mime="text/html",
+                           key="dl_report", icon=":material/download:", help="the plan as an HTML report")
+        st.download_button("result.json", data=files["result.json"], file_name="result.json",
+                           mime="application/json", key="dl_result", icon=":material/download:",
+                           help="the plan's figures as JSON, for other programs")
+        st.download_button("trial_plan.csv", data=files["trial_plan.csv"], file_name="trial_plan.csv",
+                           mime="text/csv", key="dl_trial", icon=":material/download:", help="the trial matrix")
+        st.download_button("case TOML", data=result["toml"], file_name=f"{slug}.toml",
+                           mime="application/toml", key="dl_plan_case", icon=":material/download:",
+                           help=f"the case being edited, saved as {slug}.toml")
+    st.caption(f"The same files as `sizing plan CASE.toml --out DIR`; the case is saved as `{slug}.toml`. Keep "
+               "any size table or fitted block the case names beside the TOML file.")
     cautions = r.get("cautions") or state.CAUTIONS
 else:
     cautions = state.CAUTIONS

@@ -86,6 +86,18 @@ def _option(path: str) -> str:
     return f"{f['label']} ({path}) = {value or '-'}{mark}"
 
 
+def _spread_table(rows: list[dict]) -> list[dict]:
+    """Return the spread rows without their unit column: each value carries its unit, (-) if none."""
+    out = []
+    for row in rows:
+        r = {k: v for k, v in row.items() if k != "unit"}
+        if row.get("unit") == "-":
+            for k in ("value", "spread", "P10", "P90"):
+                r[k] = f"{r[k]} (-)"
+        out.append(r)
+    return out
+
+
 with st.container(border=True):
     st.subheader("Spreads for the Monte Carlo")
     if not fields:
@@ -105,9 +117,9 @@ with st.container(border=True):
             high = c5.text_input("high, for uniform [the field's unit, e.g. 2.4 um]", key="spread_high")
             st.caption("low and high take the same kind of unit as the field (a plain number for a "
                        "dimensionless one) and must enclose its value.")
-            b1, b2, _ = st.columns([1, 1, 3])
-            apply = b1.form_submit_button("Apply the spread", key="btn_spread_apply", type="primary")
-            remove = b2.form_submit_button("Remove the spread", key="btn_spread_remove")
+            with st.container(horizontal=True):
+                apply = st.form_submit_button("Apply the spread", key="btn_spread_apply", type="primary")
+                remove = st.form_submit_button("Remove the spread", key="btn_spread_remove")
         if apply or remove:
             raw = state.get(path)
             try:
@@ -139,7 +151,7 @@ with st.container(border=True):
         if state.check()["case"] is not None:
             rows = state.view("spread_rows")
             if rows:
-                st.table(pd.DataFrame(rows).set_index("field"))
+                st.table(pd.DataFrame(_spread_table(rows)).set_index("field"))
             else:
                 st.caption("No field carries a spread yet.")
     st.markdown("**Monte Carlo settings** (the same fields as in *Uncertainty (Monte Carlo settings)* on "
@@ -153,14 +165,14 @@ with st.container(border=True):
 # ---- process and adsorption speed ------------------------------------------------------------
 with st.container(border=True):
     st.subheader("Process and adsorption speed")
-    p1, p2 = st.columns([1, 2], gap="large")
+    p1, p2 = st.columns([1, 1], gap="large")
     field("process.residence_time", "Residence time in the homogeniser [time, e.g. 0.5 ms or 2 s] (optional)",
           optional=True, where=p1, help="time the drops spend in the homogeniser's break-up zone ([process])")
     diff = state.get("surfactant.diffusivity")
-    p1.caption("Monomer diffusivity D (`surfactant.diffusivity`, set on the Surfactant page): "
+    p2.caption("Monomer diffusivity D (`surfactant.diffusivity`, set on the Surfactant page): "
                + (f"{state.md_escape(state._shown(diff))}" if diff is not None else "not given"))
     if state.check()["case"] is not None:
-        charts.adsorption_panel(state.view("adsorption_view"), where=p2)
+        charts.adsorption_panel(state.view("adsorption_view"))
 
 
 result = state.needs_valid_case()
@@ -172,14 +184,16 @@ except InputError as exc:
     st.error(str(exc), icon=":material/error:")
     sc = None
 if sc is not None:
-    m = st.columns(4)
     lo, hi = sc["plant_d32_band_m"]
-    m[0].metric("Lab d32", num(sc["lab_d32_m"] * UM, "um"))
-    m[1].metric("Predicted plant d32", num(sc["plant_d32_m"] * UM, "um"),
-                help=f"band {num(lo * UM, '')} to {num(hi * UM, 'um')}: {sc['band_method']}")
-    m[2].metric("Plant d32 band", f"{num(lo * UM, '')}–{num(hi * UM, 'um')}")
     band = sc.get("dose_band_kg_product")
-    m[3].metric("Dose over the band", f"{num(band[0], '')}–{num(band[1], 'kg')}" if band else "not reachable")
+    charts.tiles([
+        ("Lab d32", num(sc["lab_d32_m"] * UM, "um")),
+        ("Predicted plant d32", num(sc["plant_d32_m"] * UM, "um"),
+         f"band {num(lo * UM, '')} to {num(hi * UM, 'um')}: {sc['band_method']}"),
+        ("Plant d32 band", f"{num(lo * UM, '')}–{num(hi * UM, 'um')}", sc["band_method"]),
+        ("Dose over the band", f"{num(band[0], '')}–{num(band[1], 'kg')}" if band else "not reachable",
+         "product per batch at the ends of the plant d32 band"),
+    ])
     st.caption(f"Exponent {num(sc['exponent'], '')} ({sc['exponent_source']}). The dose pages use the plant d32.")
     for w in sc["warnings"]:
         st.warning(w, icon=":material/warning:")
@@ -201,12 +215,14 @@ with left:
         u = mc["summary"]
         charts.draw("histogram_from_bins", mc["edges_kg"], mc["counts"], "dose of product per batch [kg]",
                     {"P10": mc["p10"], "P50": mc["p50"], "P90": mc["p90"]}, key="chart_mc")
-        m = st.columns([1, 1, 1, 1.6])
-        m[0].metric("P10", num(mc["p10"], "kg"))
-        m[1].metric("P50", num(mc["p50"], "kg"))
-        m[2].metric("P90", num(mc["p90"], "kg"))
-        m[3].metric("P(target met)", num(100 * u["probability_target_met"], "%"),
-                    help=f"charge {num(u['charge_kg_product'], 'kg')} covering P{u['percentile']:g} with the margin")
+        charts.tiles([
+            ("P10", num(mc["p10"], "kg"), "dose of product per batch: 10 % of the draws need less"),
+            ("P50", num(mc["p50"], "kg"), "dose of product per batch: the median of the draws"),
+            ("P90", num(mc["p90"], "kg"), "dose of product per batch: 90 % of the draws need less"),
+            ("P(target met)", num(100 * u["probability_target_met"], "%"),
+             f"share of draws where the charge {num(u['charge_kg_product'], 'kg')} (P{u['percentile']:g} "
+             "with the margin) meets the target"),
+        ], per_row=2)
         st.caption(f"{u['samples']} samples, seed {u['seed']}; {u['sampling']}. "
                    f"Unreachable draws: {num(100 * u['infeasible_fraction'], '%')}.")
 with right:
@@ -214,7 +230,7 @@ with right:
     if mc is not None and mc["summary"].get("sensitivity"):
         rows = [{"input": e["path"], "low": e["dose_low_kg"], "high": e["dose_high_kg"]}
                 for e in mc["summary"]["sensitivity"]]
-        charts.draw("tornado", rows, "dose of product per batch [kg] with the input at P10 and P90",
+        charts.draw("tornado", rows, "product per batch [kg]",
                     key="chart_tornado")
         st.caption("Each bar: the dose with one input at its P10 and P90 (or low and high), the others at "
                    "their values.")

@@ -84,8 +84,9 @@ def _upload(slot: str, label: str) -> str | None:
 def _tension_tab() -> None:
     path = _upload("tension", "Tension series (CSV): 'concentration [mM],tension [mN/m]'")
     with st.form("form_tension_fit"):
-        c1, c2, c3 = st.columns(3)
-        temp = c1.text_input("Temperature", value="", placeholder="file's column, else 25 degC", key="fit_t_temp")
+        temp = st.text_input("Temperature [e.g. 25 degC]", value="", placeholder="the file's column, else 25 degC",
+                             key="fit_t_temp", help="empty: the file's temperature column, else 25 degC")
+        c2, c3 = st.columns(2)
         n = c2.number_input("Gibbs prefactor n [-]", min_value=1.0, max_value=3.0, value=1.0, step=1.0,
                             key="fit_t_n")
         model = c3.selectbox("Isotherm", ["best by AICc", "langmuir", "frumkin", "volmer"], key="fit_t_model")
