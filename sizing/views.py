@@ -539,3 +539,25 @@ def adsorption_view(case) -> dict:
     out["check"] = adsorption_check(case, sol)
     out["status"] = "flagged" if out["check"]["optimistic"] else "ok"
     return out
+
+
+def spread_note(case, path: str) -> str | None:
+    """Return why a spread on ``path`` has no effect on the dose, or None when it has one.
+
+    Fields outside the dose (the adsorption-speed inputs, the rounding step) are known up front;
+    others (e.g. the temperature under a coverage target) are found by the sensitivity swings.
+    """
+    from . import uncertainty
+
+    if path in uncertainty.NOT_IN_DOSE:
+        return (f"{path}: carries a spread but does not change the dose ({uncertainty.NOT_IN_DOSE[path]}); "
+                "it is left out of the Monte Carlo")
+    try:
+        rows = uncertainty.sensitivity(case)
+    except InputError:
+        return None
+    for e in rows:
+        if e["path"] == path and not e.get("moves_dose", True):
+            return (f"{path}: carries a spread but does not change the dose or any dose output in this "
+                    "case; its spread has no effect")
+    return None

@@ -145,7 +145,11 @@ with st.container(border=True):
                 st.error(f"**{e_path}** ({state.md_escape(views.field_label(e_path))}): {state.md_escape(msg)}. "
                          "A spread is either rel_sd from 0 to 3 on a value > 0, or low < value < high in the "
                          "field's unit, on a field that moves the dose.", icon=":material/error:")
-            if not lines and e_path in fields:
+            note = views.spread_note(state.check()["case"], e_path) if not lines and e_path in fields \
+                and state.check()["case"] is not None else None
+            if note:
+                st.warning(state.md_escape(note), icon=":material/warning:")
+            elif not lines and e_path in fields:
                 st.success(f"{e_path}: spread updated; the Monte Carlo below uses it.",
                            icon=":material/check_circle:")
         if state.check()["case"] is not None:
@@ -213,6 +217,8 @@ with left:
                 "scale-up section.", icon=":material/info:")
     else:
         u = mc["summary"]
+        for note in u.get("notes", []):
+            st.warning(state.md_escape(note), icon=":material/warning:")
         charts.draw("histogram_from_bins", mc["edges_kg"], mc["counts"], "dose of product per batch [kg]",
                     {"P10": mc["p10"], "P50": mc["p50"], "P90": mc["p90"]}, key="chart_mc")
         charts.tiles([
