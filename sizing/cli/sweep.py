@@ -17,11 +17,11 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
+    import sys
+
     from ..case import load_case
     from ..sweep import sweep
     from .common import write_atomic
-
-    import sys
 
     case = load_case(args.case)
     df = sweep(case, args.vary)
