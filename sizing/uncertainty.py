@@ -400,14 +400,15 @@ DEMO_CASE = Path(__file__).resolve().parent.parent / "cases_demo" / "miniemulsio
 def _bench_case():
     from .case import case_with, load_case
 
-    if DEMO_CASE.exists():
+    if DEMO_CASE.exists():  # a source checkout
         return load_case(DEMO_CASE), DEMO_CASE.name
-    lotion = load_case(DEMO_CASE.parent / "lotion_o_w.toml")
+    # an installed package without cases_demo/: the built-in demo with spreads
+    lotion = load_case(Path(__file__).resolve().parent / "data" / "demo.toml")
     return case_with(lotion, {
         "drops.d32": {"value": "2.0 um", "rel_sd": 0.15},
         "batch.dispersed_fraction": {"value": 0.25, "low": 0.23, "high": 0.27},
         "surfactant.adsorption_constant": {"value": "1.2 m**3/mol", "rel_sd": 0.3},
-    }), "lotion_o_w.toml with spreads"
+    }), "built-in demo with spreads"
 
 
 def bench_monte_carlo(repeats: int = 5, samples: int = 100_000) -> dict:
