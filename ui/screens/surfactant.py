@@ -148,9 +148,12 @@ def _tension_tab() -> None:
 def _depletion_tab() -> None:
     path = _upload("depletion", "Depletion runs (CSV): dose, continuous_volume, dispersed_volume, area, "
                                 "continuous_concentration with units")
+    cont = st.radio("Continuous phase of the runs", ["water", "oil"], horizontal=True, key="sel_depletion_cont",
+                    index=0 if (state.get("case.continuous") or "water") == "water" else 1,
+                    help="oil: W/O runs, where the water drops hold c/P (P = c_oil/c_water)")
     if path and st.button("Compute the surface excess", key="btn_depletion_fit"):
         try:
-            st.session_state["depletion_result"] = fit.fit_depletion(path)
+            st.session_state["depletion_result"] = fit.fit_depletion(path, continuous=cont)
         except InputError as exc:
             st.error(str(exc), icon=":material/error:")
     res = st.session_state.get("depletion_result")
