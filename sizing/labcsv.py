@@ -179,9 +179,17 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     if p.stat().st_size > MAX_BYTES:
         raise InputError(f"{p}: the file is {p.stat().st_size / 1e6:.1f} MB; at most 5 MB is accepted")
     try:
-        text = p.read_text(encoding="utf-8-sig")
-    except (OSError, UnicodeDecodeError) as exc:
+        raw = p.read_bytes()
+    except OSError as exc:
         raise InputError(f"{p}: cannot read as CSV ({exc})") from exc
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        # spreadsheet exports on Windows are often cp1252 ('µm', '°C'); every byte decodes there
+        try:
+            text = raw.decode("cp1252")
+        except UnicodeDecodeError as exc:
+            raise InputError(f"{p}: cannot read as text (neither UTF-8 nor Windows-1252): {exc}") from exc
     sep = detect_separator(_header_line(text))
     width = max((line.count(sep) for line in text.splitlines()), default=0) + 1
     try:

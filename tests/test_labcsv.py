@@ -262,3 +262,14 @@ def test_text_columns_replicate_and_empty_cells(tmp_path):
     assert np.isnan(t.columns["tension"][1])
     assert len(t) == 2
     assert t.units["replicate"] == "" and t.units["notes"] == ""
+
+
+def test_windows_1252_export_is_read(tmp_path):
+    # A spreadsheet export in Windows-1252 with 'µm' in the header (byte 0xB5): read as text,
+    # the unit parsed like 'um' (sizing.units maps µ to u).
+    p = tmp_path / "sizes.csv"
+    p.write_bytes("upper [µm];volume [%]\n1;10\n2;40\n4;40\n8;10\n".encode("cp1252"))
+    from sizing.labcsv import read_lab_csv
+
+    t = read_lab_csv(p, {"upper": "length"})
+    np.testing.assert_allclose(t.columns["upper"], [1e-6, 2e-6, 4e-6, 8e-6], rtol=1e-12)
