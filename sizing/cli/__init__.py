@@ -55,6 +55,12 @@ def main(argv: list[str] | None = None) -> int:
     except FileNotFoundError as exc:
         print(f"error: file not found: {exc.filename}", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # output piped into `head` and the like: stop quietly
+        import os
+
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
     except KeyboardInterrupt:  # pragma: no cover
         return 130
 
