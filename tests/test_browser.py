@@ -40,12 +40,16 @@ def start_app(port: int) -> subprocess.Popen:
     """Start ``sizing app --headless`` on a port and wait for /_stcore/health (no fixed sleep)."""
     exe = shutil.which("sizing", path=str(Path(sys.executable).parent))
     cmd = [exe] if exe else [sys.executable, "-m", "sizing"]
+    import tempfile
+
+    log = tempfile.TemporaryFile()  # a file, not a pipe: a full pipe buffer would stall the server
     proc = subprocess.Popen(cmd + ["app", "--headless", "--port", str(port)],
-                            stdout=subprocess.PIPE, stderr=subprocess.STDOUT, start_new_session=True)
+                            stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
     deadline = time.monotonic() + 60
     while time.monotonic() < deadline:
         if proc.poll() is not None:
-            raise RuntimeError(f"the app exited early:\n{proc.stdout.read().decode(errors='replace')}")
+            log.seek(0)
+            raise RuntimeError(f"the app exited early:\n{log.read().decode(errors='replace')}")
         try:
             with urllib.request.urlopen(f"http://127.0.0.1:{port}/_stcore/health", timeout=2) as r:
                 if r.read().strip() == b"ok":
