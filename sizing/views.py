@@ -41,12 +41,38 @@ def demo_case_path() -> Path:
     raise InputError("demo case: not found in this installation (sizing/data/demo.toml)")
 
 
-def load_demo() -> tuple[dict, Path]:
-    """Return the demo case as a raw dict (unit strings as written) and its folder."""
+def load_demo(path: Path | str | None = None) -> tuple[dict, Path]:
+    """Return a demo case as a raw dict (unit strings as written) and its folder.
+
+    ``path`` is one of :func:`demo_cases`; None loads the built-in demo.
+    """
     import tomllib
 
-    path = demo_case_path()
+    path = demo_case_path() if path is None else Path(path)
     return tomllib.loads(path.read_text(encoding="utf-8")), path.parent
+
+
+def demo_cases() -> list[tuple[str, Path]]:
+    """Return ``(title, path)`` of the demo cases: the built-in one, then ``cases_demo/*.toml``.
+
+    The folder ``cases_demo/`` is found beside the package in a source checkout (the README's
+    editable install); an installed wheel has only the built-in demo.
+    """
+    import tomllib
+
+    out = [("Built-in demo: " + _title(demo_case_path(), tomllib), demo_case_path())]
+    folder = _PACKAGE.parent / "cases_demo"
+    if folder.is_dir():
+        for p in sorted(folder.glob("*.toml")):
+            out.append((f"{_title(p, tomllib)} ({p.name})", p))
+    return out
+
+
+def _title(path: Path, tomllib) -> str:
+    try:
+        return str(tomllib.loads(path.read_text(encoding="utf-8")).get("case", {}).get("title", path.stem))
+    except (OSError, tomllib.TOMLDecodeError):
+        return path.stem
 
 
 def blank_case() -> dict:
@@ -561,3 +587,15 @@ def spread_note(case, path: str) -> str | None:
             return (f"{path}: carries a spread but does not change the dose or any dose output in this "
                     "case; its spread has no effect")
     return None
+
+
+def fitted_plot_name(block_path: Path | str) -> str | None:
+    """Return the plot file a fitted ``[surfactant]`` block names in ``[provenance] plot``."""
+    import tomllib
+
+    try:
+        prov = tomllib.loads(Path(block_path).read_text(encoding="utf-8")).get("provenance", {})
+    except (OSError, tomllib.TOMLDecodeError):
+        return None
+    plot = prov.get("plot")
+    return plot if isinstance(plot, str) and "/" not in plot and "\\" not in plot else None

@@ -279,3 +279,19 @@ def test_depletion_runs_show_the_excess_and_its_fit():
     run(at)
     spec = json.dumps([json.loads(c.proto.spec) for c in at.get("vega_lite_chart")])
     assert "surface excess [umol/m**2]" in spec
+
+
+def test_every_shipped_demo_loads_from_the_case_page():
+    # The Case page lists the built-in demo and cases_demo/*.toml; each loads with the files it
+    # names (size table, fitted block and its plot) and validates.
+    from sizing import views
+
+    demos = views.demo_cases()
+    assert len(demos) >= 1 + len(list(DEMOS.glob("*.toml")))
+    for i, (_, path) in enumerate(demos):
+        at = run(page("case"))
+        at.selectbox(key="sel_demo").select(i)
+        at.button(key="btn_demo").click()
+        run(at)
+        assert at.session_state["case_dict"]["case"]["title"], path
+        assert not [e.value for e in at.error], (path, [e.value for e in at.error])

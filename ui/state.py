@@ -64,6 +64,9 @@ def _copy_referenced(data: dict, source_dir: Path | None) -> None:
             dst = work_dir() / ref
             dst.parent.mkdir(parents=True, exist_ok=True)
             shutil.copyfile(src, dst)
+            plot = views.fitted_plot_name(src) if src.suffix == ".toml" else None
+            if plot and (src.parent / plot).is_file():  # the fit's plot, for the plan report
+                shutil.copyfile(src.parent / plot, dst.parent / plot)
 
 
 def set_case(data: dict, source: str, source_dir: Path | None = None) -> None:

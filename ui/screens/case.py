@@ -17,9 +17,12 @@ st.caption("Build the case: every value carries its unit as text (for example '2
 # ---- where the case comes from ---------------------------------------------------------------
 with st.container(border=True):
     c1, c2, c3 = st.columns([1.3, 1.3, 2])
+    demos = views.demo_cases()
+    pick = c1.selectbox("Demo case", range(len(demos)), format_func=lambda i: demos[i][0], key="sel_demo",
+                        help="invented scenarios shipped with the tool (cases_demo/ in a source checkout)")
     if c1.button("Load the demo case", key="btn_demo", icon=":material/science:"):
-        data, folder = views.load_demo()
-        state.set_case(data, "demo case", folder)
+        data, folder = views.load_demo(demos[pick][1])
+        state.set_case(data, "demo case" if pick == 0 else f"demo {demos[pick][1].name}", folder)
         st.rerun()
     if c2.button("Start a blank case", key="btn_blank", icon=":material/note_add:"):
         state.set_case(views.blank_case(), "blank case")
