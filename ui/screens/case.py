@@ -16,18 +16,19 @@ st.caption("Build the case: every value carries its unit as text (for example '2
 
 # ---- where the case comes from ---------------------------------------------------------------
 with st.container(border=True):
-    c1, c2, c3 = st.columns([1.3, 1.3, 2])
+    c1, c2 = st.columns([2.6, 2])
     demos = views.demo_cases()
     pick = c1.selectbox("Demo case", range(len(demos)), format_func=lambda i: demos[i][0], key="sel_demo",
                         help="invented scenarios shipped with the tool (cases_demo/ in a source checkout)")
-    if c1.button("Load the demo case", key="btn_demo", icon=":material/science:"):
+    b1, b2 = c1.columns(2)
+    if b1.button("Load the demo case", key="btn_demo", icon=":material/science:"):
         data, folder = views.load_demo(demos[pick][1])
         state.set_case(data, "demo case" if pick == 0 else f"demo {demos[pick][1].name}", folder)
         st.rerun()
-    if c2.button("Start a blank case", key="btn_blank", icon=":material/note_add:"):
+    if b2.button("Start a blank case", key="btn_blank", icon=":material/note_add:"):
         state.set_case(views.blank_case(), "blank case")
         st.rerun()
-    up = c3.file_uploader("Open a case file (.toml, at most 5 MB)", type=["toml"], key="up_case")
+    up = c2.file_uploader("Open a case file (.toml, at most 5 MB)", type=["toml"], key="up_case")
     if state.new_upload(up, "case"):
         try:
             data = state.case_from_upload(up.name, up.getvalue())
