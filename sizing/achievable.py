@@ -144,8 +144,6 @@ def achievable_curve(inputs, n_points: int = 121, span: tuple = (0.05, 3.0)) -> 
 
 def achievable_json(case, dose) -> dict:
     """Return the ``sizing achievable --json`` object for a dose (text such as ``"2 kg"`` or mol)."""
-    import math
-
     from .model import case_inputs, parse_dose
 
     inputs = case_inputs(case)
@@ -153,9 +151,7 @@ def achievable_json(case, dose) -> dict:
     a = achievable(inputs, dose_mol)
     m, af = float(inputs.molar_mass), float(inputs.active_fraction)
 
-    def f(x):
-        x = float(x)
-        return x if math.isfinite(x) else None
+    from .model import json_number as f
 
     feasible = bool(np.all(a.feasible))
     knee = f(a.knee_dose_mol) if feasible else None

@@ -354,10 +354,13 @@ def solve_case(case, dose: str | float | None = None, overrides: dict | None = N
     return solve(inputs, dose_mol)
 
 
-def _num(x):
-    """A JSON number: float, or None for nan/inf."""
-    x = float(np.asarray(x))
+def json_number(x):
+    """Return ``x`` as a JSON number: a float, or None for nan and inf."""
+    x = float(np.asarray(x, dtype=float))
     return x if math.isfinite(x) else None
+
+
+_num = json_number
 
 
 def split_by_phase(sol: Solution) -> dict:

@@ -489,9 +489,7 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
 # result.json and trial_plan.csv
 
 
-def _num(x):
-    x = float(x)
-    return x if math.isfinite(x) else None
+_num = model.json_number
 
 
 def recommendation_json(rec: Recommendation) -> dict:

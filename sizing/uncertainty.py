@@ -343,8 +343,7 @@ def uncertainty_json(case, mc: MonteCarlo | None = None, charge_kg_product: floa
     p10, p50, p90, pc = (float(v) for v in mc.quantile_kg_product([10, 50, 90, mc.percentile]))
     charge = covering_charge(case, mc) if charge_kg_product is None else float(charge_kg_product)
 
-    def f(x):
-        return x if math.isfinite(x) else None
+    from .model import json_number as f
 
     spreads = case.spreads()
     inputs = []

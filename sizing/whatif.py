@@ -26,8 +26,9 @@ def _input_name(path: str) -> str:
 
 
 def _num(x):
-    x = float(x)
-    return x if math.isfinite(x) else None
+    from .model import json_number
+
+    return json_number(x)
 
 
 def plan_monte_carlo(case):

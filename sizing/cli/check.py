@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from ..units import DIMENSIONS, sig
@@ -19,8 +17,9 @@ def register(sub) -> None:
 
 
 def _f(x):
-    x = float(np.asarray(x, dtype=float))
-    return x if math.isfinite(x) else None
+    from ..model import json_number
+
+    return json_number(x)
 
 
 def resolve(case) -> dict:
