@@ -13,12 +13,12 @@ import datetime as _dt
 import hashlib
 import io
 import os
-import tempfile
 from pathlib import Path
 
 import numpy as np
 
 from .errors import InputError
+from .files import write_atomic
 from .fit_depletion import DepletionFit, fit_depletion, fit_langmuir_excess, surface_excess_by_difference
 from .fit_partition import PartitionFit, fit_partition
 from .fit_tension import (
@@ -124,20 +124,6 @@ def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: s
     return {"surfactant": surf, "provenance": prov}
 
 
-def _atomic_write(path: Path, data: str | bytes) -> None:
-    """Write ``data`` to ``path`` through a temporary file in the same folder and a rename."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data.encode("utf-8") if isinstance(data, str) else data)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-
-
 def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> tuple[Path, Path]:
     """Write ``DIR/NAME.toml`` (the block) and ``DIR/NAME_tension_fit.svg`` (the plot), atomically.
 
@@ -156,8 +142,8 @@ def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> 
     text = (f"# Fitted with `sizing fit tension` from {Path(fit.data.path).name}; a case uses it with\n"
             f"# [surfactant] from = \".../{toml_path.name}\" (the path relative to the case file)\n"
             + tomli_w.dumps(block))
-    _atomic_write(svg_path, svg)
-    _atomic_write(toml_path, text)
+    write_atomic(svg_path, svg)
+    write_atomic(toml_path, text)
     return toml_path, svg_path
 
 

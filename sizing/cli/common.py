@@ -4,11 +4,10 @@ from __future__ import annotations
 
 import json
 import math
-import os
-import tempfile
-from pathlib import Path
 
 import numpy as np
+
+from ..files import write_atomic  # noqa: F401  (re-exported for the verbs)
 
 
 def to_jsonable(obj):
@@ -35,22 +34,6 @@ def dumps(obj) -> str:
 
 def print_json(obj) -> None:
     print(dumps(obj))
-
-
-def write_atomic(path: Path | str, data: str | bytes) -> None:
-    """Write a file through a temporary file and a rename, so a failure leaves the old one."""
-    p = Path(path)
-    p.parent.mkdir(parents=True, exist_ok=True)
-    mode = "wb" if isinstance(data, bytes) else "w"
-    fd, tmp = tempfile.mkstemp(dir=p.parent, prefix=f".{p.name}.", suffix=".tmp")
-    try:
-        with os.fdopen(fd, mode, **({} if mode == "wb" else {"encoding": "utf-8"})) as fh:
-            fh.write(data)
-        os.replace(tmp, p)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
 
 
 def table(rows: list[tuple[str, str]], title: str | None = None) -> str:
