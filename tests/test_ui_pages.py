@@ -295,3 +295,24 @@ def test_every_shipped_demo_loads_from_the_case_page():
         run(at)
         assert at.session_state["case_dict"]["case"]["title"], path
         assert not [e.value for e in at.error], (path, [e.value for e in at.error])
+
+
+@pytest.mark.parametrize("name, key, other, first", [
+    ("case", "sel_batch_size", "batch.mass", "batch.volume"),
+    ("surfactant", "sel_excess", "surfactant.area_per_molecule", "surfactant.max_surface_excess"),
+])
+def test_exclusive_keys_switch_and_come_back(name, key, other, first):
+    # Switching between two exclusive case keys keeps the first value aside and restores it.
+    at = run(page(name))
+    sec, k = first.split(".")
+    before = at.session_state["case_dict"][sec][k]
+    at.radio(key=key).set_value(other)
+    run(at)
+    run(at)
+    assert at.session_state["case_dict"][sec].get(k) is None
+    assert at.session_state["case_dict"][other.split(".")[0]][other.split(".")[1]]
+    at.radio(key=key).set_value(first)
+    run(at)
+    run(at)
+    assert at.session_state["case_dict"][sec][k] == before
+    assert at.session_state["case_dict"][other.split(".")[0]].get(other.split(".")[1]) is None

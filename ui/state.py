@@ -129,6 +129,20 @@ def switch(old_paths: list[str], new_path: str, default) -> None:
     st.session_state.pop(PREFIX + new_path, None)
 
 
+def either(label: str, paths: list[str], names: dict, defaults: dict, key: str) -> str:
+    """Draw a radio between exclusive case keys (``batch.volume`` or ``batch.mass``); return the one used.
+
+    Switching keeps the other key's value aside (see :func:`switch`) and reruns the page.
+    """
+    current = next((p for p in paths[1:] if get(p) is not None), paths[0])
+    choice = st.radio(label, paths, index=paths.index(current), horizontal=True,
+                      format_func=names.get, key=key)
+    if choice != current:
+        switch(paths, choice, defaults[choice])
+        st.rerun()
+    return choice
+
+
 # ---------------------------------------------------------------------------------------------
 # validation (the command line's checks) and the engine summary
 

@@ -65,14 +65,10 @@ with left:
 
 with mid:
     st.subheader("Batch")
-    by = "mass" if state.get("batch.mass") is not None else "volume"
-    choice = st.radio("Batch size given as", ["volume", "mass"], index=["volume", "mass"].index(by),
-                      key="sel_batch_size", horizontal=True)
-    if choice != by:
-        state.switch(["batch.volume", "batch.mass"], f"batch.{choice}",
-                     "2 m**3" if choice == "volume" else "2000 kg")
-        st.rerun()
-    if choice == "volume":
+    choice = state.either("Batch size given as", ["batch.volume", "batch.mass"],
+                          {"batch.volume": "volume", "batch.mass": "mass"},
+                          {"batch.volume": "2 m**3", "batch.mass": "2000 kg"}, key="sel_batch_size")
+    if choice == "batch.volume":
         field("batch.volume", "Batch volume [volume, e.g. 2 m**3 or 500 L]")
     else:
         field("batch.mass", "Batch mass [mass, e.g. 2000 kg]")

@@ -30,16 +30,13 @@ with left:
     field("surfactant.cmc", "CMC [concentration, e.g. 8.2 mM]", optional=True,
           help="leave empty for an emulsifier without micelles (a protein, a polymer)")
     field("surfactant.isotherm", "Isotherm", kind="choice", options=["langmuir", "frumkin", "volmer"])
-    excess = "area_per_molecule" if state.get("surfactant.area_per_molecule") is not None else "max_surface_excess"
-    choice = st.radio("Saturated surface excess given as", ["max_surface_excess", "area_per_molecule"],
-                      index=["max_surface_excess", "area_per_molecule"].index(excess), horizontal=True,
-                      format_func={"max_surface_excess": "surface excess", "area_per_molecule": "area per molecule"}.get,
-                      key="sel_excess")
-    if choice != excess:
-        state.switch(["surfactant.max_surface_excess", "surfactant.area_per_molecule"], f"surfactant.{choice}",
-                     "3.3 umol/m**2" if choice == "max_surface_excess" else "0.5 nm**2")
-        st.rerun()
-    if choice == "max_surface_excess":
+    choice = state.either("Saturated surface excess given as",
+                          ["surfactant.max_surface_excess", "surfactant.area_per_molecule"],
+                          {"surfactant.max_surface_excess": "surface excess",
+                           "surfactant.area_per_molecule": "area per molecule"},
+                          {"surfactant.max_surface_excess": "3.3 umol/m**2",
+                           "surfactant.area_per_molecule": "0.5 nm**2"}, key="sel_excess")
+    if choice == "surfactant.max_surface_excess":
         field("surfactant.max_surface_excess", "Max surface excess Gamma_inf [e.g. 3.3 umol/m**2 or 2 mg/m**2]")
     else:
         field("surfactant.area_per_molecule", "Minimum area per molecule [e.g. 0.50 nm**2]")
