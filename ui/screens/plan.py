@@ -47,7 +47,10 @@ if plan is not None:
         ])
         st.caption(
             f"Built on {num(rec['base_kg_product'], 'kg')} of product "
-            f"{'for the target' if rec['reaches_target'] else 'at the CMC ceiling'}, margin "
+            + ("at the CMC ceiling" if not rec["reaches_target"] else
+               f"covering P{r['uncertainty']['percentile']:g} of the spreads" if r.get("uncertainty")
+               else "for the target")
+            + ", margin "
             f"{num(100 * rec['margin'], '%')}, rounded up to {num(rec['increment_kg'], 'kg')} "
             f"({rec['increment_source']}). At the charge: coverage {num(rec['coverage_at_charge'], '')}, "
             f"free monomer {num(rec['free_concentration_at_charge_mol_m3'], 'mM')}"
