@@ -17,8 +17,8 @@ import tracemalloc
 import numpy as np
 from scipy.optimize import brentq
 
-from .balance import state_for_dose
-from .isotherm import theta_of_c
+from .physics.balance import state_for_dose
+from .physics.isotherm import theta_of_c
 
 MODELS = ("langmuir", "frumkin", "volmer")
 
@@ -128,7 +128,7 @@ def run(n: int = 1_000_000, loop_n: int = 2000, seed: int = 7, monte_carlo: bool
     }
     if monte_carlo:
         try:
-            from . import uncertainty
+            from .planning import uncertainty
         except ImportError:
             uncertainty = None
         fn = getattr(uncertainty, "bench_monte_carlo", None) if uncertainty else None

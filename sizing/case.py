@@ -263,7 +263,7 @@ class Surfactant(Section):
 
     @model_validator(mode="after")
     def _excess(self):
-        from .isotherm import MODELS
+        from .physics.isotherm import MODELS
 
         if self.isotherm.strip().lower() not in MODELS:
             raise ValueError(f"isotherm: unknown isotherm {self.isotherm!r}; expected one of {', '.join(MODELS)}")
@@ -401,7 +401,7 @@ class Scaleup(Section):
 
     @model_validator(mode="after")
     def _complete(self):
-        from .scaleup import check_section
+        from .planning.scaleup import check_section
 
         check_section(self)
         return self

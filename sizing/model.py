@@ -13,9 +13,9 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from . import balance, distribution, isotherm, phases
 from .errors import InputError
-from .properties import water_surface_tension
+from .physics import balance, distribution, isotherm, phases
+from .physics.properties import water_surface_tension
 from .units import parse
 
 AIR_DENSITY = 1.2  # kg/m**3, near 20 C and 1 atm (common practice), default for foam bubbles
@@ -108,7 +108,7 @@ def inputs_from_values(case, values: dict) -> Inputs:
     d32 = values["drops.d32"] if "drops.d32" in values else stats.d32
     lab_d32 = d32
     if getattr(c, "scaleup", None) is not None:  # the plant d32 replaces the lab one
-        from .scaleup import plant_d32_of_values
+        from .planning.scaleup import plant_d32_of_values
 
         d32 = values["scaleup.plant_d32"] if "scaleup.plant_d32" in values else plant_d32_of_values(c, values, d32)
     rho_c = _get(values, "batch.continuous_density")

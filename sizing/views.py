@@ -14,9 +14,9 @@ from pathlib import Path
 
 import numpy as np
 
-from . import distribution
 from .errors import InputError
 from .model import case_inputs, solution_json, solve, split_by_phase, target_concentration
+from .physics import distribution
 
 # ---------------------------------------------------------------------------------------------
 # the built-in demo and a blank case
@@ -315,7 +315,7 @@ def scaleup_view(case) -> dict | None:
     """Return ``sizing scaleup --json`` of the case, or None when it has no ``[scaleup]`` section."""
     if getattr(case, "scaleup", None) is None:
         return None
-    from .scaleup import scaleup_json
+    from .planning.scaleup import scaleup_json
 
     return scaleup_json(case)
 
@@ -330,7 +330,7 @@ def uncertainty_view(case, bins: int = 40) -> dict | None:
         ``summary`` (the result.json ``uncertainty`` block, with the one-at-a-time
         ``sensitivity`` swings for a tornado chart).
     """
-    from . import uncertainty
+    from .planning import uncertainty
 
     plant = getattr(case, "scaleup", None) is not None
     if not case.spreads() and not plant:
@@ -357,7 +357,7 @@ def achievable_view(case, points: int = 121) -> dict:
         ``kg_product`` and ``d32_m`` [m] (lists), ``limited_by`` (list of 'surfactant' or
         'homogeniser'), ``knee_kg_product`` [kg], ``knee_d32_m`` [m], ``bulk_loss_kg_product`` [kg].
     """
-    from .achievable import achievable_curve
+    from .planning.achievable import achievable_curve
 
     inputs = case_inputs(case)
     c = achievable_curve(inputs, n_points=points)
@@ -375,7 +375,7 @@ def depletion_curve(langmuir: dict, c_low: float, c_high: float, points: int = 8
     ``langmuir`` is one entry of :attr:`sizing.fit_depletion.DepletionFit.langmuir`; returns
     ``{"c_mol_m3", "surface_excess_mol_m2"}`` (lists) or None when that sample has no fit.
     """
-    from .isotherm import theta_of_c
+    from .physics.isotherm import theta_of_c
 
     if not isinstance(langmuir, dict) or "max_surface_excess_mol_m2" not in langmuir:
         return None
@@ -403,7 +403,7 @@ def field_label(path: str) -> str:
     >>> field_label("batch.some_key")
     'some key'
     """
-    from .plan import _LABELS
+    from .planning.plan import _LABELS
 
     return _LABELS.get(path) or _MORE_LABELS.get(path) or path.partition(".")[2].replace("_", " ")
 
@@ -433,7 +433,7 @@ def spread_fields(case) -> list[dict]:
         ``{"kind": "lognormal", "rel_sd": x}`` or ``{"kind": "uniform", "low": text, "high": text}``)
         and ``in_dose`` (False where a spread cannot move the dose).
     """
-    from .uncertainty import NOT_IN_DOSE
+    from .planning.uncertainty import NOT_IN_DOSE
     from .units import DIMENSIONS
 
     out = []
@@ -509,7 +509,7 @@ def spread_rows(case) -> list[dict]:
     Rows: ``field``, ``quantity``, ``distribution``, ``value``, ``spread``, ``P10``, ``P90`` (text
     with units), ``unit`` (``"-"`` for a plain number); for a uniform spread P10 and P90 are 10 % and 90 % of the way from low to high).
     """
-    from .uncertainty import spread_quantiles
+    from .planning.uncertainty import spread_quantiles
     from .units import format_si
 
     rows = []
@@ -545,8 +545,8 @@ def adsorption_view(case) -> dict:
         ``diffusivity`` and ``residence_time`` (as written, or None); with a check, ``check``:
         :func:`sizing.kinetics.adsorption_check` (h [m], tau_D [s], t_res [s], ratio [-], message).
     """
-    from .kinetics import adsorption_check
     from .model import solve_case
+    from .planning.kinetics import adsorption_check
 
     d = case.surfactant.diffusivity
     proc = getattr(case, "process", None)
@@ -573,7 +573,7 @@ def spread_note(case, path: str) -> str | None:
     Fields outside the dose (the adsorption-speed inputs, the rounding step) are known up front;
     others (e.g. the temperature under a coverage target) are found by the sensitivity swings.
     """
-    from . import uncertainty
+    from .planning import uncertainty
 
     if path in uncertainty.NOT_IN_DOSE:
         return (f"{path}: carries a spread but does not change the dose ({uncertainty.NOT_IN_DOSE[path]}); "

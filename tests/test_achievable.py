@@ -1,4 +1,4 @@
-"""Surfactant-limited drop size and the knee dose (sizing.achievable, `sizing achievable`)."""
+"""Surfactant-limited drop size and the knee dose (sizing.planning.achievable, `sizing achievable`)."""
 
 import json
 from pathlib import Path
@@ -6,10 +6,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from sizing.achievable import achievable, achievable_curve, achievable_json, surfactant_limited_d32
 from sizing.case import case_with, load_case
 from sizing.cli import main
 from sizing.model import case_inputs, solve
+from sizing.planning.achievable import achievable, achievable_curve, achievable_json, surfactant_limited_d32
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"

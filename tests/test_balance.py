@@ -5,10 +5,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from sizing.balance import max_coverage, state_at_concentration, state_for_dose
 from sizing.errors import InputError
-from sizing.isotherm import MODELS, c_of_theta, theta_of_c
-from sizing.phases import dispersed_uptake, phase_volumes
+from sizing.physics.balance import max_coverage, state_at_concentration, state_for_dose
+from sizing.physics.isotherm import MODELS, c_of_theta, theta_of_c
+from sizing.physics.phases import dispersed_uptake, phase_volumes
 
 logf = st.floats  # readability below
 

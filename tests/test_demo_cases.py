@@ -11,7 +11,7 @@ from sizing import model
 from sizing.case import load_case
 from sizing.cli import main
 from sizing.cli.plan import build_outputs
-from sizing.plan import charge_for_dose
+from sizing.planning.plan import charge_for_dose
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMOS = sorted((ROOT / "cases_demo").glob("*.toml"))

@@ -5,14 +5,14 @@ import pytest
 from scipy import integrate, stats
 
 from sizing.constants import SHAPE_FACTORS
-from sizing.distribution import (
+from sizing.errors import InputError
+from sizing.physics.distribution import (
     interfacial_area,
     lognormal_stats,
     rrsb_stats,
     table_from_columns,
     table_stats,
 )
-from sizing.errors import InputError
 
 
 def test_hatch_choate_worked_values():

@@ -1,4 +1,4 @@
-"""Tests of sizing.fit_depletion and `sizing fit depletion`.
+"""Tests of sizing.fitting.depletion and `sizing fit depletion`.
 
 Arithmetic checks are worked by hand in the comments; the error propagation is cross-checked
 against numerical derivatives; the Langmuir fit against noise-free rows from the isotherm.
@@ -14,7 +14,7 @@ import pytest
 
 from sizing.cli import main
 from sizing.errors import InputError
-from sizing.fit_depletion import (
+from sizing.fitting.depletion import (
     NEGATIVE_NOTE,
     fit_depletion,
     fit_langmuir_excess,

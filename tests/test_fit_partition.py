@@ -1,4 +1,4 @@
-"""Tests of sizing.fit_partition and `sizing fit partition` on synthetic pairs.
+"""Tests of sizing.fitting.partition and `sizing fit partition` on synthetic pairs.
 
 Synthetic pairs follow the pseudo-phase picture (Laven, Open Colloid Sci. J. 4 (2011) 37: a
 constant oil/water ratio below the CMC, surfactant added past it stays in the water) with
@@ -16,7 +16,7 @@ from scipy import stats
 
 from sizing.cli import main
 from sizing.errors import InputError
-from sizing.fit_partition import fit_partition, log_ratio_estimate, origin_line_estimate
+from sizing.fitting.partition import fit_partition, log_ratio_estimate, origin_line_estimate
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "cases_demo" / "lab" / "nonionic_partition.csv"

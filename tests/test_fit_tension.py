@@ -1,4 +1,4 @@
-"""Tests of sizing.fit_tension, sizing.fit (block, plot) and `sizing fit tension`.
+"""Tests of sizing.fitting.tension, sizing.fitting.block (block, plot) and `sizing fit tension`.
 
 Synthetic series are generated from known parameters with the equations of state of DESIGN.md
 plus seeded numpy noise; the fit must give the parameters back inside its reported 95 %
@@ -19,8 +19,8 @@ import pytest
 
 from sizing.cli import main
 from sizing.errors import InputError
-from sizing.fit import block_stem, plot_svg_for_provenance, surfactant_block, write_fitted_block
-from sizing.fit_tension import TensionData, fit_tension, model_tension, read_tension_csv
+from sizing.fitting.block import block_stem, plot_svg_for_provenance, surfactant_block, write_fitted_block
+from sizing.fitting.tension import TensionData, fit_tension, model_tension, read_tension_csv
 from sizing.units import parse
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -264,7 +264,7 @@ def test_failed_write_keeps_good_output(tmp_path, monkeypatch):
     f = fit_tension(synthetic(7), model="langmuir")
     toml_path, _ = write_fitted_block(f, tmp_path, name="blk")
     good = toml_path.read_text()
-    import sizing.fit as fitmod
+    import sizing.fitting.block as fitmod
 
     def boom(fit):
         raise RuntimeError("render failed")

@@ -7,7 +7,7 @@ from hypothesis import strategies as st
 
 from sizing.constants import GAS_CONSTANT
 from sizing.errors import InputError
-from sizing.isotherm import (
+from sizing.physics.isotherm import (
     MODELS,
     area_from_surface_excess,
     c_of_theta,

@@ -1,4 +1,4 @@
-"""Adsorption speed: diffusion time against the residence time (sizing.kinetics)."""
+"""Adsorption speed: diffusion time against the residence time (sizing.planning.kinetics)."""
 
 import math
 from pathlib import Path
@@ -9,8 +9,8 @@ from scipy.optimize import brentq
 
 from sizing.case import case_with, load_case
 from sizing.errors import InputError
-from sizing.kinetics import FLAG_RATIO, adsorption_check, adsorption_speed, diffusion_time
 from sizing.model import solve_case
+from sizing.planning.kinetics import FLAG_RATIO, adsorption_check, adsorption_speed, diffusion_time
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"

@@ -1,4 +1,4 @@
-"""The recommendation, the trial matrix and `sizing plan` outputs (sizing.plan, sizing.cli.plan)."""
+"""The recommendation, the trial matrix and `sizing plan` outputs (sizing.planning.plan, sizing.cli.plan)."""
 
 from __future__ import annotations
 
@@ -13,7 +13,7 @@ import pytest
 from sizing import model
 from sizing.case import case_with, load_case, loads_case
 from sizing.cli import main
-from sizing.plan import build_plan, charge_for_dose, plan_json
+from sizing.planning.plan import build_plan, charge_for_dose, plan_json
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"
@@ -169,12 +169,12 @@ def test_failed_plan_leaves_the_previous_report_byte_identical(tmp_path, monkeyp
     bad = tmp_path / "bad.toml"
     bad.write_text(LOTION.read_text().replace("coverage = 0.85", "coverage = 1.85"))
     assert main(["plan", str(bad), "--out", str(out)]) == 2
-    import sizing.report
+    import sizing.outputs.report
 
     def boom(plan, sections=None):
         raise RuntimeError("report writer failed")
 
-    monkeypatch.setattr(sizing.report, "render", boom)
+    monkeypatch.setattr(sizing.outputs.report, "render", boom)
     with pytest.raises(RuntimeError):
         main(["plan", str(LOTION), "--out", str(out)])
     after = {n: (out / n).read_bytes() for n in before}
@@ -183,7 +183,7 @@ def test_failed_plan_leaves_the_previous_report_byte_identical(tmp_path, monkeyp
 
 
 def test_trial_csv_carries_the_achievable_d32(tmp_path, capsys):
-    # The surfactant-limited d32 of each level (sizing.achievable) is in the CSV as in result.json.
+    # The surfactant-limited d32 of each level (sizing.planning.achievable) is in the CSV as in result.json.
     out = tmp_path / "lotion"
     assert main(["plan", str(LOTION), "--out", str(out)]) == 0
     j = json.loads((out / "result.json").read_text())
@@ -198,7 +198,7 @@ def test_plan_warns_when_the_percentile_cannot_be_covered():
     # 9.84): about (0.92 - 0.9077)/0.07 = 18 % of draws are unreachable, more than the 10 % a
     # P90 charge may leave out, so the plan must say so (regression of the plan's own logic).
     from sizing.case import case_with
-    from sizing.plan import build_plan, plan_json
+    from sizing.planning.plan import build_plan, plan_json
 
     case = case_with(load_case(LOTION), {"target.coverage": {"value": 0.89, "low": 0.85, "high": 0.92},
                                          "uncertainty.samples": 20000})
@@ -216,7 +216,7 @@ def test_cli_plan_json_prints_only_json(tmp_path, capsys):
 def test_plan_warns_when_levels_saturate_at_the_cmc():
     # Coverage 0.90 against a ceiling of 0.9077 (Langmuir, K cmc = 9.84): the 1 x and 1.25 x
     # levels both reach the CMC, so the trial could not tell them apart.
-    from sizing.plan import build_plan, plan_json
+    from sizing.planning.plan import build_plan, plan_json
 
     case = case_with(load_case(LOTION), {"target.coverage": 0.90})
     j = plan_json(build_plan(case))

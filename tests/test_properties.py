@@ -4,7 +4,7 @@ import numpy as np
 import pytest
 
 from sizing.errors import InputError
-from sizing.properties import water_surface_tension
+from sizing.physics.properties import water_surface_tension
 
 # IAPWS R1-76(2014), Revised Release on Surface Tension of Ordinary Water Substance: values
 # computed from the release's equation (REFERENCES.md, [D]); its table rounds to 0.01 mN/m, so

@@ -1,4 +1,4 @@
-"""The HTML report: self-contained, deterministic, numbers equal result.json (sizing.report)."""
+"""The HTML report: self-contained, deterministic, numbers equal result.json (sizing.outputs.report)."""
 
 from __future__ import annotations
 
@@ -8,8 +8,8 @@ from pathlib import Path
 import pytest
 
 from sizing.case import case_with, load_case
-from sizing.plan import build_plan
-from sizing.report import SECTIONS, q, render
+from sizing.outputs.report import SECTIONS, q, render
+from sizing.planning.plan import build_plan
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"

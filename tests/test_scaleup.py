@@ -12,7 +12,7 @@ from sizing.case import case_with, load_case
 from sizing.cli import main
 from sizing.errors import InputError
 from sizing.model import solution_json, solve_case
-from sizing.scaleup import (
+from sizing.planning.scaleup import (
     DEFAULT_EXPONENTS,
     fit_power_law,
     predict_power_law,

@@ -1,4 +1,4 @@
-"""What-if sweeps: spec parsing with units, and agreement with point solves (sizing.sweep)."""
+"""What-if sweeps: spec parsing with units, and agreement with point solves (sizing.planning.sweep)."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ from sizing import model
 from sizing.case import load_case
 from sizing.cli import main
 from sizing.errors import InputError
-from sizing.sweep import parse_vary, sweep
+from sizing.planning.sweep import parse_vary, sweep
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"

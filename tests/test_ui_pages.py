@@ -120,7 +120,7 @@ def test_drops_page_shows_lognormal_statistics_and_area():
 
 
 def test_scaleup_page_matches_the_scaleup_engine():
-    from sizing.scaleup import scaleup_json
+    from sizing.planning.scaleup import scaleup_json
 
     case_file = DEMOS / "miniemulsion_hph.toml"
     at = run(page("scaleup", case_file))
@@ -132,7 +132,7 @@ def test_scaleup_page_matches_the_scaleup_engine():
 
 
 def test_plan_page_matches_sizing_plan():
-    from sizing.plan import build_plan
+    from sizing.planning.plan import build_plan
 
     at = run(page("plan"))
     rec = build_plan(demo_case()).recommendation
@@ -264,7 +264,7 @@ def test_tension_fit_from_lab_data_fills_the_case():
     at.button(key="btn_use_tension_fit").click()
     run(at)
     surf = at.session_state["case_dict"]["surfactant"]
-    from sizing.fit import fit_tension, read_tension_csv, surfactant_block
+    from sizing.fitting.block import fit_tension, read_tension_csv, surfactant_block
 
     block = surfactant_block(fit_tension(read_tension_csv(DEMOS / "lab" / "nonionic_tension.csv")))["surfactant"]
     assert surf["cmc"] == block["cmc"] and surf["isotherm"] == block["isotherm"]

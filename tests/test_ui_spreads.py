@@ -14,8 +14,8 @@ from streamlit.testing.v1 import AppTest
 
 from sizing import views
 from sizing.case import parse_case
-from sizing.kinetics import adsorption_check
-from sizing.uncertainty import monte_carlo
+from sizing.planning.kinetics import adsorption_check
+from sizing.planning.uncertainty import monte_carlo
 
 PAGE = Path(__file__).resolve().parents[1] / "ui" / "screens" / "scaleup.py"
 SAMPLES = 20_000  # fewer draws than the default keep the test quick; same seed as the page

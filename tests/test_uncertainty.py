@@ -1,4 +1,4 @@
-"""Monte Carlo through the vectorised balance, sensitivity, and bad spreads (sizing.uncertainty)."""
+"""Monte Carlo through the vectorised balance, sensitivity, and bad spreads (sizing.planning.uncertainty)."""
 
 import json
 import math
@@ -12,7 +12,7 @@ import sizing.model
 from sizing.case import Value, case_with, load_case
 from sizing.errors import InputError
 from sizing.model import solve_case
-from sizing.uncertainty import (
+from sizing.planning.uncertainty import (
     bench_monte_carlo,
     covering_charge,
     histogram,

@@ -43,8 +43,8 @@ def describe(out: dict) -> str:
 
 
 def run(args) -> int:
-    from ..achievable import achievable_json
     from ..case import load_case
+    from ..planning.achievable import achievable_json
 
     case = load_case(args.case)
     out = achievable_json(case, args.dose)

@@ -24,8 +24,8 @@ def _f(x):
 
 def resolve(case) -> dict:
     """Return ``{"inputs": {path: {si, unit, given}}, "derived": {...}}`` for a case (no solve)."""
-    from .. import balance, distribution, phases
     from ..model import case_inputs
+    from ..physics import balance, distribution, phases
 
     inputs = {}
     for path, v in case.quantities().items():

@@ -58,8 +58,8 @@ def _warn(lines) -> None:
 
 
 def _tension(args) -> int:
-    from ..fit import fit_tension, read_tension_csv, write_fitted_block
-    from ..properties import water_surface_tension
+    from ..fitting.block import fit_tension, read_tension_csv, write_fitted_block
+    from ..physics.properties import water_surface_tension
     from ..units import parse
 
     if args.bootstrap < 0:
@@ -88,7 +88,7 @@ def _tension(args) -> int:
 
 
 def _tension_text(fit) -> str:
-    from ..isotherm import area_from_surface_excess
+    from ..physics.isotherm import area_from_surface_excess
     from ..units import format_si
 
     b = fit.best
@@ -129,7 +129,7 @@ def _tension_text(fit) -> str:
 
 
 def _depletion(args) -> int:
-    from ..fit import fit_depletion
+    from ..fitting.block import fit_depletion
     from ..units import format_si
 
     res = fit_depletion(args.data, partition_coefficient=args.partition_coefficient,
@@ -166,7 +166,7 @@ def _depletion(args) -> int:
 
 
 def _partition(args) -> int:
-    from ..fit import fit_partition
+    from ..fitting.block import fit_partition
     from ..units import format_si, parse
 
     cmc = parse(args.cmc, "--cmc", "concentration") if args.cmc else None

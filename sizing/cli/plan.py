@@ -37,8 +37,8 @@ def demo_case_path():
 
 def build_outputs(case, source) -> tuple[object, dict[str, str]]:
     """Return ``(plan, {file name: text})`` for a validated case (nothing written)."""
-    from .. import report
-    from ..plan import build_plan, trial_csv
+    from ..outputs import report
+    from ..planning.plan import build_plan, trial_csv
     from .common import dumps
 
     plan = build_plan(case, source)
@@ -123,7 +123,7 @@ def run(args) -> int:
         print(dumps(plan.to_json()))
         return 0
     print(describe(plan))
-    from ..plan import plan_warnings
+    from ..planning.plan import plan_warnings
 
     for w in plan_warnings(plan):
         print(f"warning: {w}")

@@ -75,7 +75,7 @@ def describe(out: dict) -> str:
 
 def run(args) -> int:
     from ..case import load_case
-    from ..scaleup import scaleup_json
+    from ..planning.scaleup import scaleup_json
 
     case = load_case(args.case)
     out = scaleup_json(case)

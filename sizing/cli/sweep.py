@@ -20,7 +20,7 @@ def run(args) -> int:
     import sys
 
     from ..case import load_case
-    from ..sweep import sweep
+    from ..planning.sweep import sweep
     from .common import write_atomic
 
     case = load_case(args.case)

@@ -15,7 +15,7 @@ state.ensure_case()
 st.title("Surfactant")
 
 try:  # the fits are optional in this version of the engine
-    fit = importlib.import_module("sizing.fit")
+    fit = importlib.import_module("sizing.fitting.block")
 except ImportError:  # pragma: no cover - depends on the engine version
     fit = None
 

@@ -29,8 +29,8 @@ from __future__ import annotations
 import numpy as np
 from scipy.special import expit, lambertw
 
-from .constants import AVOGADRO, GAS_CONSTANT
-from .errors import InputError
+from ..constants import AVOGADRO, GAS_CONSTANT
+from ..errors import InputError
 from .roots import bracketed_newton
 
 MODELS = ("langmuir", "frumkin", "volmer")

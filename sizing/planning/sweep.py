@@ -14,10 +14,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import model
-from .errors import InputError
+from .. import model
+from ..errors import InputError
+from ..units import DIMENSIONS, parse
 from .plan import auto_increment, charge_for_dose
-from .units import DIMENSIONS, parse
 
 ALIASES = {
     "d32": "drops.d32",

@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import model
+from .. import model
 
 CAUTIONS = (
     "This is an equilibrium estimate from a mass balance; confirm the dose by a plant trial before "
@@ -419,7 +419,7 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
         ceiling_kg = math.nan
     base_kg = _f(target_sol.kg_product) if feasible else ceiling_kg
     # with spreads the charge covers the chosen percentile of the Monte Carlo (sizing.whatif)
-    from . import whatif
+    from . import parts as whatif
 
     mc = whatif.plan_monte_carlo(case) if feasible else None
     if mc is not None and math.isfinite(float(mc.quantile_kg_product(mc.percentile))):

@@ -24,8 +24,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError
-from .labcsv import read_lab_csv
+from ..errors import InputError
+from ..labcsv import read_lab_csv
 
 MIN_LANGMUIR_ROWS = 4
 CONFIDENCE = 0.95

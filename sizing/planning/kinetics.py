@@ -27,7 +27,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 FLAG_RATIO = 0.1  # tau_D / t_res above which the equilibrium dose is flagged optimistic
 
@@ -102,7 +102,7 @@ def adsorption_check(case, solution=None) -> dict | None:
         ``depth_m``, ``diffusion_time_s``, ``ward_tordai_time_s``, ``residence_time_s``, ``ratio``,
         ``threshold``, ``optimistic`` (bool), ``message``; None if the data are missing.
     """
-    from .model import solve_case
+    from ..model import solve_case
 
     d = case.surfactant.diffusivity
     proc = getattr(case, "process", None)

@@ -30,7 +30,7 @@ from pathlib import Path
 import numpy as np
 from scipy.stats import norm
 
-from .errors import InputError
+from ..errors import InputError
 
 Z975 = float(norm.ppf(0.975))
 Z90 = float(norm.ppf(0.9))
@@ -190,7 +190,7 @@ def monte_carlo(case, samples: int | None = None, seed: int | None = None) -> Mo
     >>> mc.samples, mc.dose_kg_product.shape
     (2000, (2000,))
     """
-    from .model import case_inputs, solve
+    from ..model import case_inputs, solve
 
     u = case.uncertainty
     n = int(samples if samples is not None else (u.samples if u else 100_000))
@@ -247,7 +247,7 @@ def sensitivity(case) -> list[dict]:
     enters only the tension) is kept with ``moves_dose = False``; :func:`uncertainty_json`
     turns it into a note rather than an error, so one uncertainty spec serves many cases.
     """
-    from .model import case_inputs, solve
+    from ..model import case_inputs, solve
 
     spreads = {p: v for p, v in case.spreads().items() if p not in NOT_IN_DOSE}
     _check_used(case, spreads)
@@ -298,7 +298,7 @@ def sensitivity(case) -> list[dict]:
 
 def _other_output_changes(case, path, lo, hi) -> bool:
     """Return True if wt%, cost or the tension move when ``path`` goes from lo to hi."""
-    from .model import case_inputs, solve
+    from ..model import case_inputs, solve
 
     sol = solve(case_inputs(case, {path: np.array([lo, hi])}))
     for arr in (sol.wt_percent, sol.cost, sol.percent_on_dispersed):
@@ -343,7 +343,7 @@ def uncertainty_json(case, mc: MonteCarlo | None = None, charge_kg_product: floa
     p10, p50, p90, pc = (float(v) for v in mc.quantile_kg_product([10, 50, 90, mc.percentile]))
     charge = covering_charge(case, mc) if charge_kg_product is None else float(charge_kg_product)
 
-    from .model import json_number as f
+    from ..model import json_number as f
 
     spreads = case.spreads()
     inputs = []
@@ -393,16 +393,16 @@ def histogram(mc: MonteCarlo, bins: int = 40) -> dict:
 # ---------------------------------------------------------------------------------------------
 # benchmark hook (called by ``sizing bench``)
 
-DEMO_CASE = Path(__file__).resolve().parent.parent / "cases_demo" / "miniemulsion_hph.toml"
+DEMO_CASE = Path(__file__).resolve().parents[2] / "cases_demo" / "miniemulsion_hph.toml"
 
 
 def _bench_case():
-    from .case import case_with, load_case
+    from ..case import case_with, load_case
 
     if DEMO_CASE.exists():  # a source checkout
         return load_case(DEMO_CASE), DEMO_CASE.name
     # an installed package without cases_demo/: the built-in demo with spreads
-    lotion = load_case(Path(__file__).resolve().parent / "data" / "demo.toml")
+    lotion = load_case(Path(__file__).resolve().parents[1] / "data" / "demo.toml")
     return case_with(lotion, {
         "drops.d32": {"value": "2.0 um", "rel_sd": 0.15},
         "batch.dispersed_fraction": {"value": 0.25, "low": 0.23, "high": 0.27},

@@ -32,10 +32,10 @@ from pathlib import Path
 
 import numpy as np
 
-from .constants import GAS_CONSTANT
-from .errors import InputError
-from .isotherm import MODELS, area_from_surface_excess, check_model, pressure_of_theta, theta_of_c
-from .labcsv import read_lab_csv
+from ..constants import GAS_CONSTANT
+from ..errors import InputError
+from ..labcsv import read_lab_csv
+from ..physics.isotherm import MODELS, area_from_surface_excess, check_model, pressure_of_theta, theta_of_c
 
 MIN_BELOW = 4  # points needed below the CMC
 MIN_ABOVE = 2  # points needed on the plateau

@@ -26,7 +26,7 @@ def _input_name(path: str) -> str:
 
 
 def _num(x):
-    from .model import json_number
+    from ..model import json_number
 
     return json_number(x)
 
@@ -82,7 +82,7 @@ def attach(plan, mc=None) -> None:
 
 
 def render_scaleup(plan) -> str:
-    from .report import esc, q, section, table
+    from ..outputs.report import esc, q, section, table
 
     part = plan.extras.get("scaleup")
     if not part:
@@ -103,7 +103,7 @@ def render_scaleup(plan) -> str:
 
 
 def render_achievable(plan) -> str:
-    from .report import chart, esc, q, section, table
+    from ..outputs.report import chart, esc, q, section, table
 
     part = plan.extras.get("achievable")
     if not part or not part["feasible"]:
@@ -140,7 +140,7 @@ def render_achievable(plan) -> str:
 
 
 def render_uncertainty(plan) -> str:
-    from .report import chart, esc, q, section, table
+    from ..outputs.report import chart, esc, q, section, table
 
     part = plan.extras.get("uncertainty")
     if not part:
@@ -201,7 +201,7 @@ def render_uncertainty(plan) -> str:
 
 
 def render_adsorption(plan) -> str:
-    from .report import esc, q, section, table
+    from ..outputs.report import esc, q, section, table
 
     part = plan.extras.get("adsorption")
     if not part:

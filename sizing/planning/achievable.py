@@ -29,8 +29,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import phases
-from .errors import InputError
+from ..errors import InputError
+from ..physics import phases
 
 
 @dataclass(frozen=True)
@@ -104,7 +104,7 @@ def achievable(inputs, dose_mol) -> Achievable:
     InputError
         A negative or non-finite dose.
     """
-    from .model import target_concentration
+    from ..model import target_concentration
 
     n = np.asarray(dose_mol, dtype=float)
     if np.any(~np.isfinite(n)) or np.any(n < 0):
@@ -144,14 +144,14 @@ def achievable_curve(inputs, n_points: int = 121, span: tuple = (0.05, 3.0)) -> 
 
 def achievable_json(case, dose) -> dict:
     """Return the ``sizing achievable --json`` object for a dose (text such as ``"2 kg"`` or mol)."""
-    from .model import case_inputs, parse_dose
+    from ..model import case_inputs, parse_dose
 
     inputs = case_inputs(case)
     dose_mol = parse_dose(dose, inputs.molar_mass) if isinstance(dose, str) else float(dose)
     a = achievable(inputs, dose_mol)
     m, af = float(inputs.molar_mass), float(inputs.active_fraction)
 
-    from .model import json_number as f
+    from ..model import json_number as f
 
     feasible = bool(np.all(a.feasible))
     knee = f(a.knee_dose_mol) if feasible else None

@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 SYSTEMS = ("emulsion", "foam")
 CONTINUOUS = ("water", "oil")

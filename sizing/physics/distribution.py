@@ -31,7 +31,7 @@ import numpy as np
 from scipy.special import gamma as gamma_fn
 from scipy.stats import norm
 
-from .errors import InputError
+from ..errors import InputError
 
 Z10, Z90 = norm.ppf(0.1), norm.ppf(0.9)
 
@@ -255,7 +255,7 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
 
 def read_size_table(path) -> SizeTable:
     """Read a measured size table CSV (units in the header, e.g. ``upper [um],volume [%]``)."""
-    from .labcsv import read_lab_csv
+    from ..labcsv import read_lab_csv
 
     dims = {"lower": "length", "upper": "length", "size": "length"}
     table = read_lab_csv(path, dims)

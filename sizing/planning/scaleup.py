@@ -35,7 +35,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .errors import InputError
+from ..errors import InputError
 
 METHODS = ("power_law", "stirred_tank")
 VARIABLES = ("pressure", "energy_density", "tip_speed")
@@ -411,7 +411,7 @@ def scaleup_case(case) -> ScaleupResult:
     InputError
         The case has no ``[scaleup]`` section.
     """
-    from .model import size_stats
+    from ..model import size_stats
 
     s = case.scaleup
     if s is None:
@@ -473,7 +473,7 @@ def scaleup_case(case) -> ScaleupResult:
 
 def scaleup_json(case, result: ScaleupResult | None = None) -> dict:
     """Return the ``sizing scaleup --json`` object: plant d32 with its band and the dose it implies."""
-    from .model import case_inputs, solution_json, solve
+    from ..model import case_inputs, solution_json, solve
 
     r = scaleup_case(case) if result is None else result
     plant = solution_json(solve(case_inputs(case)), case)

@@ -17,7 +17,7 @@ import math
 
 import numpy as np
 
-from .units import sig
+from ..units import sig
 
 SVG_RC = {"svg.hashsalt": "sizing-report", "svg.fonttype": "path", "font.size": 9,
           "axes.grid": True, "grid.alpha": 0.3, "font.family": "DejaVu Sans"}
@@ -115,7 +115,7 @@ def chart(draw, caption: str) -> str:
 
 
 def _phase_names(plan):
-    from .phases import phase_names
+    from ..physics.phases import phase_names
 
     return phase_names(plan.case.case.system, plan.case.case.continuous)
 
@@ -154,7 +154,7 @@ def render_summary(plan) -> str:
         ("tension at the charge", q(r.tension_at_charge, "mN/m", scale=1e3)),
         ("micelles at the charge", q(100 * r.micelle_share_at_charge, "% of the charge")),
     ]
-    from .plan import plan_warnings
+    from ..planning.plan import plan_warnings
 
     for w in plan_warnings(plan):
         lead += f'<p class="warn"><b>Check:</b> {esc(w)}</p>'
@@ -366,7 +366,7 @@ def _fit_plot(path):
     if not path:
         return None
     try:
-        from .fit import plot_svg_for_provenance
+        from ..fitting.block import plot_svg_for_provenance
     except ImportError:
         return None
     try:
@@ -384,7 +384,7 @@ def render_cautions(plan) -> str:
 SECTIONS = [render_summary, render_case, render_split, render_coverage_chart, render_d32_chart,
             render_trial, render_unreachable, render_assumptions, render_cautions]
 # scale-up, achievable d32, uncertainty and adsorption speed (sizing.whatif), after the trial matrix
-from .whatif import SECTIONS as _WHATIF  # noqa: E402
+from ..planning.parts import SECTIONS as _WHATIF  # noqa: E402
 
 SECTIONS[SECTIONS.index(render_trial) + 1:SECTIONS.index(render_trial) + 1] = list(_WHATIF)
 
@@ -397,7 +397,7 @@ def render(plan, sections=None) -> str:
     plan : :class:`sizing.plan.Plan`
     sections : renderers to use (default :data:`SECTIONS`)
     """
-    from . import __version__
+    from .. import __version__
 
     parts = [r(plan) for r in (SECTIONS if sections is None else sections)]
     title = plan.case.case.title

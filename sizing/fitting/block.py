@@ -17,11 +17,13 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError
-from .files import write_atomic
-from .fit_depletion import DepletionFit, fit_depletion, fit_langmuir_excess, surface_excess_by_difference
-from .fit_partition import PartitionFit, fit_partition
-from .fit_tension import (
+from ..errors import InputError
+from ..files import write_atomic
+from ..physics.isotherm import area_from_surface_excess
+from ..units import format_si, parse
+from .depletion import DepletionFit, fit_depletion, fit_langmuir_excess, surface_excess_by_difference
+from .partition import PartitionFit, fit_partition
+from .tension import (
     CONFIDENCE,
     TensionData,
     TensionFit,
@@ -31,8 +33,6 @@ from .fit_tension import (
     read_tension_csv,
     select_model,
 )
-from .isotherm import area_from_surface_excess
-from .units import format_si, parse
 
 __all__ = [
     "DepletionFit", "PartitionFit", "TensionData", "TensionFit", "fit_depletion", "fit_langmuir_excess",

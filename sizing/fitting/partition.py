@@ -26,8 +26,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import InputError
-from .labcsv import read_lab_csv
+from ..errors import InputError
+from ..labcsv import read_lab_csv
 
 CONFIDENCE = 0.95
 MIN_BELOW = 2
