@@ -3,6 +3,8 @@
 Every problem a user can cause (a bad case file, a bad CSV, an unknown unit) raises
 :class:`InputError`, which is also a :class:`ValueError`.  The command line prints its
 message, one line per problem, and exits non-zero; it never shows a traceback for these.
+A numeric failure that is not the user's mistake (a fit that does not converge, a root that
+fails) raises :class:`CalculationError` instead, which is not a :class:`ValueError`.
 """
 
 from __future__ import annotations
@@ -24,6 +26,14 @@ class InputError(SizingError, ValueError):
 
     def __str__(self) -> str:  # one line per problem
         return "\n".join(self.problems)
+
+
+class CalculationError(SizingError):
+    """A numeric method failed on valid input: a fit did not converge, a root was not found.
+
+    The message names the calculation, the data it ran on and what to try; it is kept apart
+    from :class:`InputError` so that a caller can tell a wrong input from a failed method.
+    """
 
 
 def field_error(field: str, given: object, expected: str) -> InputError:

@@ -13,7 +13,7 @@ import numpy as np
 import pytest
 
 from sizing.cli import main
-from sizing.errors import InputError
+from sizing.errors import CalculationError, InputError
 from sizing.fitting.depletion import (
     NEGATIVE_NOTE,
     fit_depletion,
@@ -194,3 +194,15 @@ def test_water_in_oil_runs_use_c_over_p(tmp_path):
     zero = write_csv(tmp_path, HEADER + ",partition_coefficient\n10,100,20,2,0.02,0\n", name="zero.csv")
     with pytest.raises(InputError, match="does not dissolve in the oil"):
         fit_depletion(zero, continuous="oil")
+
+
+def test_langmuir_fit_that_does_not_converge_is_a_calculation_error(monkeypatch):
+    # scipy's curve_fit raises RuntimeError when it gives up: reported as a numeric failure
+    import scipy.optimize
+
+    def give_up(*args, **kwargs):
+        raise RuntimeError("Optimal parameters not found")
+
+    monkeypatch.setattr(scipy.optimize, "curve_fit", give_up)
+    with pytest.raises(CalculationError, match=r"Langmuir fit of 5 depletion rows did not converge"):
+        fit_langmuir_excess([0.001, 0.003, 0.01, 0.03, 0.1], [1e-6, 2e-6, 2.5e-6, 2.8e-6, 2.9e-6])

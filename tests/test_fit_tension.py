@@ -18,7 +18,7 @@ import numpy as np
 import pytest
 
 from sizing.cli import main
-from sizing.errors import InputError
+from sizing.errors import CalculationError, InputError
 from sizing.fitting.block import block_stem, plot_svg_for_provenance, surfactant_block, write_fitted_block
 from sizing.fitting.tension import TensionData, fit_tension, model_tension, read_tension_csv
 from sizing.units import parse
@@ -188,6 +188,32 @@ def test_bad_option_values():
         fit_tension(synthetic(0), model="henry")
     with pytest.raises(InputError, match=r"--gibbs-prefactor"):
         fit_tension(synthetic(0), gibbs_prefactor=7)
+
+
+def test_too_few_distinct_concentrations_is_an_input_error(tmp_path):
+    # replicates allowed, but three distinct concentrations leave no gap for a breakpoint
+    rows = [f"{c},{g},{r}" for r in (1, 2, 3) for c, g in ((0.001, 50), (0.01, 40), (0.1, 30))]
+    p = write_csv(tmp_path, "concentration [mM],tension [mN/m],replicate\n" + "\n".join(rows))
+    with pytest.raises(InputError, match=r"3 distinct concentrations; expected at least 4"):
+        fit_tension(p, temperature=T25, model="langmuir")
+
+
+def test_fit_that_does_not_converge_is_a_calculation_error(monkeypatch, capsys):
+    # a numeric failure (every start ends on a non-finite residual) is not the user's mistake
+    import sizing.fitting.tension as ft
+
+    class Failed:
+        fun = np.array([np.nan])
+        cost = np.nan
+
+    monkeypatch.setattr(ft, "_solve", lambda fun, x0, lo, hi: Failed())
+    with pytest.raises(CalculationError, match=r"the langmuir fit did not converge") as info:
+        fit_tension(synthetic(0), model="langmuir")
+    assert not isinstance(info.value, ValueError)
+    # the command line prints it on one line and exits non-zero, no traceback
+    assert main(["fit", "tension", str(DEMO), "--model", "langmuir"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: ") and err.count("\n") == 1 and "Traceback" not in err
 
 
 # ---------------------------------------------------------------- demo file, block, CLI

@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import CalculationError, InputError
 from ..labcsv import read_lab_csv
 
 MIN_LANGMUIR_ROWS = 4
@@ -288,8 +288,12 @@ def fit_langmuir_excess(c, gamma, sd=None, c_sd=None) -> dict:
             kk = math.exp(popt[1])
             slope = math.exp(popt[0]) * kk / (1 + kk * c) ** 2  # dGamma/dc [m]
             sigma = np.sqrt(sd_g**2 + (slope * sd_c) ** 2) * 1e6
-        popt, pcov = curve_fit(f, c, g * 1e6, p0=popt, sigma=sigma, absolute_sigma=False,
-                               bounds=bounds, maxfev=20000)
+        try:
+            popt, pcov = curve_fit(f, c, g * 1e6, p0=popt, sigma=sigma, absolute_sigma=False,
+                                   bounds=bounds, maxfev=20000)
+        except RuntimeError as exc:  # curve_fit's "optimal parameters not found"
+            raise CalculationError(f"the Langmuir fit of {len(c)} depletion rows did not converge "
+                                   f"({exc}); check the rows, or use the surface excess per row") from exc
     dof = max(len(c) - 2, 1)
     tq = float(student_t.ppf(0.5 + CONFIDENCE / 2, dof))
     se = np.sqrt(np.clip(np.diag(pcov), 0, None))

@@ -33,7 +33,7 @@ from pathlib import Path
 import numpy as np
 
 from ..constants import GAS_CONSTANT
-from ..errors import InputError
+from ..errors import CalculationError, InputError
 from ..labcsv import read_lab_csv
 from ..physics.isotherm import MODELS, area_from_surface_excess, check_model, pressure_of_theta, theta_of_c
 
@@ -327,16 +327,22 @@ def _fit_model(data, model, temperature, n, g0_fixed_mn, starts=None):
     names = _names(model, g0_fixed_mn is not None)
     lo, hi = _bounds(names, logc, y)
     fun = _residuals_fn(c, y, model, names, g0_fixed_mn, temperature, n)
+    if starts is None:
+        gaps = _candidates(logc)
+        if not gaps:
+            raise InputError(f"{data.path}: {len(np.unique(c))} distinct concentrations; expected at "
+                             f"least 4 (the CMC is a breakpoint between measured concentrations)")
+        starts = [_initial(logc, y, xb, model, names, g0_fixed_mn, temperature, n) for xb in gaps]
     best = None
-    for x0 in (starts if starts is not None else
-               [_initial(logc, y, xb, model, names, g0_fixed_mn, temperature, n)
-                for xb in _candidates(logc)]):
+    for x0 in starts:
         with np.errstate(all="ignore"):
             res = _solve(fun, x0, lo, hi)
         if np.all(np.isfinite(res.fun)) and (best is None or res.cost < best.cost):
             best = res
     if best is None:
-        raise InputError(f"{data.path}: the {model} fit did not converge on this series")
+        raise CalculationError(f"{data.path}: the {model} fit did not converge on this series "
+                               "(no start gave a finite residual); check the data, or force another "
+                               "model with --model")
     return best, names, lo, hi, fun
 
 

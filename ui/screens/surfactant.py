@@ -6,7 +6,7 @@ import pandas as pd
 import streamlit as st
 
 from sizing import views
-from sizing.errors import InputError
+from sizing.errors import SizingError
 from ui import charts, state
 from ui.charts import MN, num
 from ui.state import field
@@ -64,7 +64,7 @@ def _upload(slot: str, label: str) -> str | None:
         try:
             text = state.check_upload(up.name, up.getvalue(), (".csv",), f"{slot} data")
             name = state.save_upload(up.name, text, lambda p: None)
-        except InputError as exc:
+        except SizingError as exc:
             st.session_state[f"{slot}_error"] = str(exc)
         else:
             st.session_state.pop(f"{slot}_error", None)
@@ -96,7 +96,7 @@ def _tension_tab() -> None:
             data = fit.read_tension_csv(path)
             res = fit.fit_tension(data, temperature=t, gibbs_prefactor=n,
                                   model=None if model.startswith("best") else model)
-        except InputError as exc:
+        except SizingError as exc:  # a user mistake or a fit that did not converge
             st.session_state["tension_result"] = None
             st.error(str(exc), icon=":material/error:")
         else:
@@ -151,7 +151,7 @@ def _depletion_tab() -> None:
     if path and st.button("Compute the surface excess", key="btn_depletion_fit"):
         try:
             st.session_state["depletion_result"] = fit.fit_depletion(path, continuous=cont)
-        except InputError as exc:
+        except SizingError as exc:  # a user mistake or a fit that did not converge
             st.error(str(exc), icon=":material/error:")
     res = st.session_state.get("depletion_result")
     if not res:
@@ -181,7 +181,7 @@ def _partition_tab() -> None:
     if path and st.button("Fit the partition coefficient", key="btn_partition_fit"):
         try:
             st.session_state["partition_result"] = fit.fit_partition(path)
-        except InputError as exc:
+        except SizingError as exc:  # a user mistake or a fit that did not converge
             st.error(str(exc), icon=":material/error:")
     res = st.session_state.get("partition_result")
     if not res:
