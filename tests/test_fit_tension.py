@@ -21,6 +21,7 @@ from sizing.cli import main
 from sizing.errors import CalculationError, InputError
 from sizing.fitting.block import block_stem, plot_svg_for_provenance, surfactant_block, write_fitted_block
 from sizing.fitting.tension import TensionData, fit_tension, model_tension, read_tension_csv
+from sizing.outputs.fit_json import tension_fit_json
 from sizing.units import parse
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -103,7 +104,7 @@ def test_fixed_clean_tension_is_kept():
     f = fit_tension(synthetic(3), model="langmuir", clean_tension=52e-3)
     assert f.best.params["clean_tension"] == pytest.approx(52e-3, rel=1e-12)
     assert f.best.intervals["clean_tension"] == pytest.approx((52e-3, 52e-3), rel=1e-12)
-    assert f.to_json()["clean_tension_fitted"] is False
+    assert tension_fit_json(f)["clean_tension_fitted"] is False
 
 
 def test_bootstrap_intervals_bracket_the_estimate():
@@ -114,7 +115,7 @@ def test_bootstrap_intervals_bracket_the_estimate():
 
 
 def test_area_per_molecule_in_json():
-    j = fit_tension(synthetic(5, sd=0.0), model="langmuir").to_json()
+    j = tension_fit_json(fit_tension(synthetic(5, sd=0.0), model="langmuir"))
     # 1/(N_A Gamma_inf): 3.3 umol/m2 -> 0.503194 nm2 (CODATA 2018 exact N_A, [D])
     assert j["area_per_molecule_m2"] * 1e18 == pytest.approx(0.503194, rel=1e-5)
 

@@ -2,8 +2,9 @@
 
 from __future__ import annotations
 
-import json
 import sys
+
+from ..outputs.jsonify import dumps
 
 
 def register(subparsers) -> None:
@@ -59,6 +60,7 @@ def _warn(lines) -> None:
 
 def _tension(args) -> int:
     from ..fitting.block import fit_tension, read_tension_csv, write_fitted_block
+    from ..outputs.fit_json import tension_fit_json
     from ..physics.properties import water_surface_tension
     from ..units import parse
 
@@ -75,10 +77,10 @@ def _tension(args) -> int:
                       model=args.model, clean_tension=clean, bootstrap=args.bootstrap, seed=args.seed)
     written = write_fitted_block(fit, args.out, name=args.name) if args.out else None
     if args.json:
-        out = fit.to_json()
+        out = tension_fit_json(fit)
         if written:
             out["written"] = [str(p) for p in written]
-        print(json.dumps(out, indent=2))
+        print(dumps(out))
     else:
         print(_tension_text(fit))
         if written:
@@ -130,12 +132,13 @@ def _tension_text(fit) -> str:
 
 def _depletion(args) -> int:
     from ..fitting.block import fit_depletion
+    from ..outputs.fit_json import depletion_fit_json
     from ..units import format_si
 
     res = fit_depletion(args.data, partition_coefficient=args.partition_coefficient,
                         continuous=args.continuous)
     if args.json:
-        print(json.dumps(res.to_json(), indent=2))
+        print(dumps(depletion_fit_json(res)))
         return 0
     lines = [f"{res.path}: surface excess by difference, (dose - c_c V_c - c_d V_d) / area", "",
              f"{'row':>4} {'sample':<12}{'surface excess':>20}{'sd':>18}{'c continuous':>16}"
@@ -167,12 +170,13 @@ def _depletion(args) -> int:
 
 def _partition(args) -> int:
     from ..fitting.block import fit_partition
+    from ..outputs.fit_json import partition_fit_json
     from ..units import format_si, parse
 
     cmc = parse(args.cmc, "--cmc", "concentration") if args.cmc else None
     res = fit_partition(args.data, cmc=cmc)
     if args.json:
-        print(json.dumps(res.to_json(), indent=2))
+        print(dumps(partition_fit_json(res)))
         return 0
     lo, hi = res.interval
     lines = [f"{res.path}: partition coefficient c_oil/c_water = {res.partition_coefficient:.4g} [-] "

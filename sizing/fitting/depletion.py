@@ -109,11 +109,6 @@ class DepletionFit:
     langmuir: dict  # sample -> dict of the fit, or a note why there is none
     notes: tuple
 
-    def to_json(self) -> dict:
-        """Return the plain data printed by ``sizing fit depletion --json``."""
-        return {"rows": self.rows, "langmuir": self.langmuir, "confidence": CONFIDENCE,
-                "source": self.path, "notes": list(self.notes)}
-
 
 def fit_depletion(path, *, partition_coefficient=None, continuous: str = "water") -> DepletionFit:
     """Compute the surface excess of every depletion run and fit Langmuir where rows allow.

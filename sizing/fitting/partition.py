@@ -47,15 +47,6 @@ class PartitionFit:
     method: str
     notes: tuple
 
-    def to_json(self) -> dict:
-        """Return the plain data printed by ``sizing fit partition --json``."""
-        return {"partition_coefficient": self.partition_coefficient,
-                "partition_coefficient_interval": list(self.interval),
-                "intervals": {"partition_coefficient": list(self.interval)},
-                "confidence": CONFIDENCE, "cmc_mol_m3": self.cmc, "cmc_source": self.cmc_source,
-                "method": self.method, "rows": self.rows, "source": self.path,
-                "notes": list(self.notes)}
-
 
 def log_ratio_estimate(c_water, c_oil):
     """Return ``(P, (low, high))``: geometric-mean ratio and its 95 % Student-t interval.

@@ -35,7 +35,7 @@ import numpy as np
 from ..constants import GAS_CONSTANT
 from ..errors import CalculationError, InputError
 from ..labcsv import read_lab_csv
-from ..physics.isotherm import MODELS, area_from_surface_excess, check_model, pressure_of_theta, theta_of_c
+from ..physics.isotherm import MODELS, check_model, pressure_of_theta, theta_of_c
 
 MIN_BELOW = 4  # points needed below the CMC
 MIN_ABOVE = 2  # points needed on the plateau
@@ -50,13 +50,6 @@ _BOUNDS = {  # on the fitted scale
     "interaction": (-10.0, 2.0),  # Frumkin beta; above 2 a 2-D phase transition
 }
 PARAMS = ("clean_tension", "max_surface_excess", "adsorption_constant", "interaction", "cmc")
-JSON_NAMES = {
-    "clean_tension": "clean_tension_N_m",
-    "max_surface_excess": "max_surface_excess_mol_m2",
-    "adsorption_constant": "adsorption_constant_m3_mol",
-    "interaction": "interaction",
-    "cmc": "cmc_mol_m3",
-}
 
 
 @dataclass(frozen=True)
@@ -115,44 +108,6 @@ class TensionFit:
     def best(self) -> ModelFit:
         """Return the fit of the model used."""
         return self.fits[self.model]
-
-    def to_json(self) -> dict:
-        """Return the plain-data summary printed by ``sizing fit tension --json``."""
-        b = self.best
-        out = {JSON_NAMES[k]: b.params[k] for k in PARAMS}
-        out.update(
-            model=self.model,
-            selection=self.selection,
-            confidence=CONFIDENCE,
-            intervals={JSON_NAMES[k]: list(b.intervals[k]) for k in PARAMS},
-            standard_errors={JSON_NAMES[k]: _nan_none(b.standard_errors[k]) for k in PARAMS},
-            area_per_molecule_m2=float(area_from_surface_excess(b.params["max_surface_excess"])),
-            area_per_molecule_interval_m2=sorted(
-                float(area_from_surface_excess(v)) for v in b.intervals["max_surface_excess"]),
-            temperature_K=self.temperature,
-            gibbs_prefactor=self.gibbs_prefactor,
-            clean_tension_fitted=self.clean_tension_fixed is None,
-            n_points=int(len(self.data.concentration)),
-            n_below_cmc=self.n_below,
-            n_above_cmc=self.n_above,
-            residuals_N_m=[float(r) for r in b.residuals],
-            residual_sd_N_m=float(np.sqrt(b.rss / max(len(b.residuals) - len(b.fitted), 1))),
-            models={
-                m: {"aic": f.aic, "aicc": f.aicc, "rss_N2_m2": f.rss,
-                    **{JSON_NAMES[k]: f.params[k] for k in PARAMS}}
-                for m, f in self.fits.items()
-            },
-            bootstrap=(None if self.bootstrap is None else
-                       {JSON_NAMES[k]: list(v) for k, v in self.bootstrap.items()}),
-            source=self.data.path,
-            notes=list(self.notes),
-            warnings=list(self.warnings),
-        )
-        return out
-
-
-def _nan_none(v):
-    return None if v is None or not np.isfinite(v) else float(v)
 
 
 def read_tension_csv(path) -> TensionData:

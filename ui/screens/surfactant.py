@@ -7,6 +7,7 @@ import streamlit as st
 
 from sizing import views
 from sizing.errors import SizingError
+from sizing.outputs import fit_json
 from ui import charts, state
 from ui.charts import MN, num
 from ui.state import field
@@ -115,7 +116,7 @@ def _tension_tab() -> None:
                                      "residual, measured - fitted [mN/m]"), width="stretch",
                     key="chart_tension_res")
     block = fit.surfactant_block(res)["surfactant"]
-    j = res.to_json()
+    j = fit_json.tension_fit_json(res)
     iv = j["intervals"]
     rows = [
         {"parameter": "CMC", "value": block["cmc"],
