@@ -300,3 +300,26 @@ def test_failed_write_keeps_good_output(tmp_path, monkeypatch):
     with pytest.raises(RuntimeError):
         write_fitted_block(f, tmp_path, name="blk")
     assert toml_path.read_text() == good
+
+
+def test_analytic_jacobian_matches_scipy_differentiate():
+    # cross-check of the Gibbs-equation Jacobian against scipy.differentiate.jacobian
+    # (adaptive finite differences), on the demo file for every model; tolerance 1e-7 relative
+    from scipy.differentiate import jacobian
+
+    import sizing.fitting.tension as ft
+
+    data = read_tension_csv(DEMO)
+    for model in ("langmuir", "frumkin", "volmer"):
+        best, names, lo, hi, fun = ft._fit_model(data, model, T25, 1.0, None)
+        analytic = ft._jacobian(data.concentration, model, names, best.x, None, T25, 1.0)
+
+        def f(xs, fun=fun):  # scipy.differentiate evaluates columns of x at once
+            xs = np.asarray(xs)
+            out = np.empty((len(data.concentration),) + xs.shape[1:])
+            for idx in np.ndindex(xs.shape[1:]):
+                out[(slice(None),) + idx] = fun(xs[(slice(None),) + idx])
+            return out
+
+        numeric = jacobian(f, best.x, initial_step=1e-3).df
+        assert analytic == pytest.approx(numeric, rel=1e-7, abs=1e-7 * np.abs(analytic).max()), model
