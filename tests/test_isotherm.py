@@ -103,3 +103,17 @@ def test_frumkin_sign_convention_fixed_point():
     assert float(pi) / scale == pytest.approx(np.log(2) - 0.25, rel=1e-12)
     # attraction lowers the concentration needed for the same coverage
     assert float(c_of_theta(0.5, 1.0, "frumkin", 1.0)) < float(c_of_theta(0.5, 1.0, "langmuir"))
+
+
+def test_frumkin_strong_repulsion_root_against_brentq():
+    # Newton alone cycles around the inflection of y + 2|beta| expit(y) for strong repulsion;
+    # the bracketed solver must still converge.  Cross-check: scipy.optimize.brentq on the
+    # explicit K c(theta), tolerance 1e-12 in theta.
+    from scipy.optimize import brentq
+
+    betas = np.array([-10.0, -7.080632853660726, -4.0, -1.0])
+    lnkc = np.array([3.83451029353612, 3.83451029353612, 2.0, -1.0])
+    got = theta_of_c(np.exp(lnkc), 1.0, "frumkin", betas)
+    for b, L, th in zip(betas, lnkc, got):
+        want = brentq(lambda t: np.log(t / (1 - t)) - 2 * b * t - L, 1e-15, 1 - 1e-15, xtol=1e-15)
+        assert th == pytest.approx(want, abs=1e-12), b

@@ -33,6 +33,7 @@ def bracketed_newton(fdf, lo, hi, x0=None, *, xtol=1e-13, rtol=4e-16, maxiter=20
     shape = x.shape
     lo, hi, x = lo.ravel(), hi.ravel(), x.ravel()
     open_ = np.flatnonzero(hi - lo > xtol + rtol * np.abs(x))
+    last = np.full(x.shape, np.inf)  # size of each element's previous step
     for _ in range(maxiter):
         if open_.size == 0:
             break
@@ -45,8 +46,12 @@ def bracketed_newton(fdf, lo, hi, x0=None, *, xtol=1e-13, rtol=4e-16, maxiter=20
         with np.errstate(divide="ignore", invalid="ignore"):
             step = f / df
             xn = xi - step
-        bad = ~np.isfinite(xn) | (xn <= lo[open_]) | (xn >= hi[open_])
+        # bisect when Newton leaves the bracket or does not halve the previous step (a Newton
+        # cycle around an inflection, as Frumkin with strong repulsion makes)
+        bad = (~np.isfinite(xn) | (xn <= lo[open_]) | (xn >= hi[open_])
+               | (np.abs(xn - xi) > 0.5 * last[open_]))
         xn = np.where(bad, 0.5 * (lo[open_] + hi[open_]), xn)
+        last[open_] = np.abs(xn - xi)
         done = (f == 0) | (np.abs(xn - xi) <= xtol + rtol * np.abs(xi)) | (
             hi[open_] - lo[open_] <= xtol + rtol * np.abs(xi)
         )
