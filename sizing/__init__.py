@@ -5,4 +5,4 @@ micelles in one mass balance, fits from lab data, scale-up and the plant-trial p
 computation in SI floats and numpy arrays; units are parsed at the boundary (``sizing.units``).
 """
 
-__version__ = "0.1.0"
+from .version import __version__ as __version__

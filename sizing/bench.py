@@ -19,6 +19,7 @@ from scipy.optimize import brentq
 
 from .physics.balance import state_for_dose
 from .physics.isotherm import theta_of_c
+from .planning import uncertainty
 
 MODELS = ("langmuir", "frumkin", "volmer")
 
@@ -127,11 +128,5 @@ def run(n: int = 1_000_000, loop_n: int = 2000, seed: int = 7, monte_carlo: bool
                     "max_rel_diff": 1e-9, "peak_memory_mb": 1000, "monte_carlo_1e5_s": 0.5},
     }
     if monte_carlo:
-        try:
-            from .planning import uncertainty
-        except ImportError:
-            uncertainty = None
-        fn = getattr(uncertainty, "bench_monte_carlo", None) if uncertainty else None
-        if fn is not None:
-            out["monte_carlo"] = fn()
+        out["monte_carlo"] = uncertainty.bench_monte_carlo()
     return out

@@ -17,6 +17,7 @@ or a Monte Carlo run only replaces some entries by arrays.
 
 from __future__ import annotations
 
+import copy
 import difflib
 import math
 import tomllib
@@ -24,10 +25,15 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Annotated, Any, Literal
 
+import tomli_w
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, model_validator
 
-from .constants import SHAPE_FACTORS
+from .constants import AVOGADRO, SHAPE_FACTORS
 from .errors import InputError
+from .labcsv import read_lab_csv
+from .physics import distribution
+from .physics.dropsize import RULES, VARIABLES
+from .physics.isotherm import MODELS
 from .units import DIMENSIONS, parse_value
 
 # ---------------------------------------------------------------------------------------------
@@ -167,6 +173,79 @@ def _shape_factor(v):
 ShapeFactor = Annotated[Value, _quantity(("dimensionless",), ge=1, le=2), BeforeValidator(_shape_factor)]
 
 
+# ---------------------------------------------------------------------------------------------
+# the [scaleup] section's rules (called by Scaleup)
+
+
+def point_x(point, variable: str, where: str) -> float:
+    """Return the process variable of a lab point [SI]."""
+    if variable == "tip_speed":
+        if point.tip_speed is not None:
+            if point.speed is not None:
+                raise ValueError(f"{where}: give tip_speed or speed with diameter, not both")
+            return point.tip_speed.si
+        if point.speed is None or point.diameter is None:
+            raise ValueError(f"{where}: variable = 'tip_speed' needs tip_speed (e.g. '12 m/s') or speed "
+                             "(e.g. '3000 rpm') with diameter (e.g. '5 cm')")
+        return math.pi * point.speed.si * point.diameter.si
+    v = getattr(point, variable)
+    if v is None:
+        raise ValueError(f"{where}: variable = {variable!r} needs {variable} in every lab point")
+    return v.si
+
+
+def check_section(s) -> None:
+    """Check that a ``[scaleup]`` section is complete for its method (raises ValueError)."""
+    if s.method == "power_law":
+        stray = [k for k in ("rule", "lab_diameter", "lab_speed", "plant_speed") if getattr(s, k) is not None]
+        if stray:
+            raise ValueError(f"method = 'power_law' does not use {', '.join(stray)} (stirred_tank keys)")
+        if s.variable is None:
+            raise ValueError(f"method = 'power_law' needs variable, one of {', '.join(VARIABLES)}")
+        if not s.points:
+            raise ValueError("method = 'power_law' needs points, e.g. points = [{ pressure = '300 bar', "
+                             "d32 = '1.8 um' }, ...] (one or more lab homogenisations)")
+        xs = [point_x(p, s.variable, f"points[{i}]") for i, p in enumerate(s.points)]
+        for i, p in enumerate(s.points):
+            others = [k for k in VARIABLES if k != s.variable and getattr(p, k) is not None]
+            if s.variable != "tip_speed" and (p.speed is not None or p.diameter is not None):
+                others += [k for k in ("speed", "diameter") if getattr(p, k) is not None]
+            if others:
+                raise ValueError(f"points[{i}]: variable = {s.variable!r}; remove {', '.join(others)}")
+        if len(s.points) >= 2 and len(set(xs)) < 2 and s.exponent is None:
+            raise ValueError(f"points: all lab points have the same {s.variable}; a fit of the exponent "
+                             "needs two different values (or give exponent)")
+        if s.plant is None:
+            raise ValueError(f"method = 'power_law' needs plant, the plant's {s.variable} "
+                             f"(e.g. {_example(s.variable)})")
+        want = {"pressure": ("pressure",), "energy_density": ("pressure",), "tip_speed": ("speed", "frequency")}
+        if s.plant.dimension not in want[s.variable]:
+            raise ValueError(f"plant: expected the plant's {s.variable} such as {_example(s.variable)}, "
+                             f"got {s.plant.raw!r}")
+        if s.plant.dimension == "frequency" and s.plant_diameter is None:
+            raise ValueError("plant: a stirrer or rotor speed needs plant_diameter (e.g. '0.3 m') to give "
+                             "the tip speed pi N D")
+        if s.plant.dimension != "frequency" and s.plant_diameter is not None:
+            raise ValueError("plant_diameter: only used when plant is a speed in rpm or 1/s")
+        return
+    stray = [k for k in ("variable", "plant", "exponent") if getattr(s, k) is not None]
+    if s.points:
+        stray.append("points")
+    if stray:
+        raise ValueError(f"method = 'stirred_tank' does not use {', '.join(stray)} (power_law keys)")
+    missing = [k for k in ("lab_diameter", "lab_speed", "plant_diameter", "rule") if getattr(s, k) is None]
+    if missing:
+        raise ValueError(f"method = 'stirred_tank' needs {', '.join(missing)} (impeller diameters, the lab "
+                         f"speed and a rule, one of {', '.join(RULES)})")
+    if (s.rule == "given_speed") != (s.plant_speed is not None):
+        raise ValueError("plant_speed is needed with rule = 'given_speed' and only then")
+
+
+def _example(variable: str) -> str:
+    return {"pressure": "'600 bar'", "energy_density": "'6e7 J/m**3'",
+            "tip_speed": "'20 m/s' or plant = '1500 rpm' with plant_diameter"}[variable]
+
+
 class Section(BaseModel):
     model_config = ConfigDict(extra="forbid", arbitrary_types_allowed=True, frozen=True,
                               populate_by_name=True)
@@ -263,8 +342,6 @@ class Surfactant(Section):
 
     @model_validator(mode="after")
     def _excess(self):
-        from .physics.isotherm import MODELS
-
         if self.isotherm.strip().lower() not in MODELS:
             raise ValueError(f"isotherm: unknown isotherm {self.isotherm!r}; expected one of {', '.join(MODELS)}")
         if (self.max_surface_excess is None) == (self.area_per_molecule is None):
@@ -292,8 +369,6 @@ class Surfactant(Section):
         (common practice); below 0.1 nm**2 per molecule (Gamma_inf above 16.6 umol/m**2) the
         value is taken as a mistake, e.g. 'umol/um**2' written for 'umol/m**2'.
         """
-        from .constants import AVOGADRO
-
         if self.max_surface_excess is None:
             field, v = "area_per_molecule", self.area_per_molecule
             gi = 1.0 / (AVOGADRO * v.si)
@@ -401,8 +476,6 @@ class Scaleup(Section):
 
     @model_validator(mode="after")
     def _complete(self):
-        from .planning.scaleup import check_section
-
         check_section(self)
         return self
 
@@ -593,8 +666,6 @@ def parse_case(data: dict, base_dir: Path | str | None = None) -> Case:
     InputError
         With one line per problem.
     """
-    import copy
-
     base = Path(base_dir) if base_dir is not None else None
     raw = copy.deepcopy(data)
     work = copy.deepcopy(data)
@@ -640,8 +711,6 @@ def load_case(path: Path | str) -> Case:
 
 def case_to_dict(case: Case) -> dict:
     """Return the case as the dict it was written from (user's unit strings kept)."""
-    import copy
-
     if case._raw is not None:
         return copy.deepcopy(case._raw)
     return _dump_model(case)
@@ -665,8 +734,6 @@ def _dump_model(model: BaseModel) -> dict:
 
 def dumps_case(case: Case | dict) -> str:
     """Write a case as TOML text (the user's unit strings, no None values)."""
-    import tomli_w
-
     data = case if isinstance(case, dict) else case_to_dict(case)
     return tomli_w.dumps(data)
 
@@ -682,3 +749,20 @@ def case_with(case: Case, updates: dict[str, Any]) -> Case:
         else:
             data[section][key] = value
     return parse_case(data, case.base_dir)
+
+
+# ---------------------------------------------------------------------------------------------
+# files a case names
+
+
+def table_path(file: str, base: Path | None) -> Path:
+    """Resolve a size-table path relative to the case file's folder."""
+    p = Path(file)
+    return p if p.is_absolute() or base is None else (base / p)
+
+
+def read_size_table(path) -> distribution.SizeTable:
+    """Read a measured size table CSV (units in the header, e.g. ``upper [um],volume [%]``)."""
+    dims = {"lower": "length", "upper": "length", "size": "length"}
+    table = read_lab_csv(path, dims)
+    return distribution.table_from_columns(table.columns, str(path))

@@ -171,8 +171,6 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     >>> [round(float(t.columns['concentration'][0]), 12), round(float(t.columns['tension'][0]), 12)]
     [0.5, 0.0702]
     """
-    import pandas as pd
-
     p = Path(path)
     if not p.exists():
         raise InputError(f"{p}: file not found")
@@ -193,6 +191,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     sep = detect_separator(_header_line(text))
     width = max((line.count(sep) for line in text.splitlines()), default=0) + 1
     try:
+        import pandas as pd  # deferred: pandas is heavy and only lab files need it
+
         grid = pd.read_csv(io.StringIO(text), sep=sep, header=None, names=range(width), dtype=str,
                            skip_blank_lines=True, comment="#", keep_default_na=False)
     except Exception as exc:

@@ -13,8 +13,10 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from .case import point_x, read_size_table, table_path
 from .errors import InputError
 from .physics import balance, distribution, isotherm, phases
+from .physics.dropsize import PowerLawFit, fit_power_law, stirred_tank_ratio, stirred_tank_speed
 from .physics.properties import water_surface_tension
 from .units import parse
 
@@ -89,12 +91,64 @@ def size_stats(case, values: dict | None = None) -> distribution.SizeStats:
     if d.distribution == "rrsb":
         return distribution.rrsb_stats(values["drops.characteristic_size"], values["drops.spread"])
     if d.distribution == "table":
-        path = distribution.table_path(d.file, case.base_dir)
+        path = table_path(d.file, case.base_dir)
         try:
-            return distribution.table_stats(distribution.read_size_table(path))
+            return distribution.table_stats(read_size_table(path))
         except InputError as exc:
             raise InputError(problems=[f"drops.file: {line}" for line in exc.problems]) from None
     return distribution.SizeStats(d32=values["drops.d32"])
+
+
+# ---------------------------------------------------------------------------------------------
+# the plant drop size of a case with [scaleup] (correlations in sizing.physics.dropsize)
+
+
+def _section_value(values: dict, path: str, section, key: str):
+    if path in values:
+        return values[path]
+    v = getattr(section, key)
+    return None if v is None else v.si
+
+
+def plant_x(s, values: dict):
+    """Return the plant's process variable X [SI] from the section and (possibly array) values."""
+    x = _section_value(values, "scaleup.plant", s, "plant")
+    if s.plant.dimension == "frequency":
+        x = math.pi * np.asarray(x) * np.asarray(_section_value(values, "scaleup.plant_diameter", s, "plant_diameter"))
+    return x
+
+
+def lab_fit(s) -> PowerLawFit:
+    """Return the power-law fit of a ``power_law`` section's lab points."""
+    xs = [point_x(p, s.variable, f"scaleup.points[{i}]") for i, p in enumerate(s.points)]
+    ds = [p.d32.si for p in s.points]
+    exponent = s.exponent.si if s.exponent is not None else None
+    return fit_power_law(xs, ds, exponent, s.variable)
+
+
+def plant_d32_of_values(case, values: dict, lab_d32):
+    """Return the plant d32 [m] of a case with ``[scaleup]`` (arrays where ``values`` has them).
+
+    ``lab_d32`` is the case's own drop size [m]: the lab vessel's d32 for ``stirred_tank``
+    (unused by ``power_law``, whose lab points carry their own sizes).
+    """
+    s = case.scaleup
+    if s.method == "power_law":
+        x = np.asarray(plant_x(s, values), dtype=float)
+        if s.exponent is not None:
+            # b held (possibly an array from a spread): ln C = mean(ln d) - b mean(ln X) for each b
+            b = np.asarray(values.get("scaleup.exponent", s.exponent.si), dtype=float)
+            lxs = np.log([point_x(p, s.variable, "scaleup.points") for p in s.points])
+            lds = np.log([p.d32.si for p in s.points])
+            return np.exp(lds.mean()) * (x / np.exp(lxs.mean())) ** b
+        fit = lab_fit(s)
+        return fit.prefactor * x ** fit.exponent
+    n_l = _section_value(values, "scaleup.lab_speed", s, "lab_speed")
+    d_l = _section_value(values, "scaleup.lab_diameter", s, "lab_diameter")
+    d_p = _section_value(values, "scaleup.plant_diameter", s, "plant_diameter")
+    n_p = stirred_tank_speed(d_l, n_l, d_p, s.rule, _section_value(values, "scaleup.plant_speed", s, "plant_speed"))
+    a = _section_value(values, "scaleup.weber_exponent", s, "weber_exponent")
+    return np.asarray(lab_d32) * stirred_tank_ratio(d_l, n_l, d_p, n_p, a)
 
 
 def inputs_from_values(case, values: dict) -> Inputs:
@@ -108,8 +162,6 @@ def inputs_from_values(case, values: dict) -> Inputs:
     d32 = values["drops.d32"] if "drops.d32" in values else stats.d32
     lab_d32 = d32
     if getattr(c, "scaleup", None) is not None:  # the plant d32 replaces the lab one
-        from .planning.scaleup import plant_d32_of_values
-
         d32 = values["scaleup.plant_d32"] if "scaleup.plant_d32" in values else plant_d32_of_values(c, values, d32)
     rho_c = _get(values, "batch.continuous_density")
     rho_d = _get(values, "batch.dispersed_density", AIR_DENSITY if c.case.system == "foam" else math.nan)
@@ -354,15 +406,6 @@ def solve_case(case, dose: str | float | None = None, overrides: dict | None = N
     return solve(inputs, dose_mol)
 
 
-def json_number(x):
-    """Return ``x`` as a JSON number: a float, or None for nan and inf."""
-    x = float(np.asarray(x, dtype=float))
-    return x if math.isfinite(x) else None
-
-
-_num = json_number
-
-
 def split_by_phase(sol: Solution) -> dict:
     """Return ``{water, oil, interface, micelles}`` [mol] of a solved state."""
     s = sol.state
@@ -431,73 +474,8 @@ def plausibility_warnings(sol: Solution) -> list[str]:
     return out
 
 
-def solution_json(sol: Solution, case=None) -> dict:
-    """Return the ``sizing solve --json`` object of a scalar solution (the fixed contract)."""
+def solution_warnings(sol: Solution) -> list[str]:
+    """Return the warnings of a solved state: size-table notes, tension and plausibility checks."""
     i = sol.inputs
-    feasible = bool(np.all(sol.feasible))
-    split = {k: _num(v) for k, v in split_by_phase(sol).items()}
-    dose = None
-    if feasible:
-        dose = {
-            "mol": _num(sol.dose_mol), "kg_active": _num(sol.kg_active), "kg_product": _num(sol.kg_product),
-            "wt_percent": _num(sol.wt_percent), "wt_percent_active": _num(sol.wt_percent_active),
-            "g_per_l": _num(sol.g_per_l), "mg_per_m2": _num(sol.mg_per_m2),
-            "percent_on_dispersed": _num(sol.percent_on_dispersed), "cost": _num(sol.cost),
-        }
-    cont, disp = phases.phase_names(i.system, i.continuous)
-    area = float(sol.area)
-    vd, vc = float(sol.dispersed_volume), float(sol.continuous_volume)
-    stats = i.size_stats.as_dict() if i.size_stats is not None else {"d32": _num(i.d32)}
-    out = {
-        "title": case.case.title if case is not None else None,
-        "mode": sol.mode,
-        "feasible": feasible,
-        "max_coverage": _num(sol.max_coverage),
-        "d32_m": _num(sol.d32),
-        **({"lab_d32_m": _num(i.lab_d32),
-            "size_m_basis": "size_m describes the lab drops of [drops]; d32_m and the area use the "
-                            "plant d32 predicted by [scaleup]"}
-           if getattr(case, "scaleup", None) is not None else {}),
-        "interfacial_area_m2": area,
-        "dose": dose,
-        "state": {
-            "free_concentration_mol_m3": _num(sol.state.free_concentration),
-            "coverage": _num(sol.state.coverage),
-            "surface_excess_mol_m2": _num(sol.surface_excess),
-            "tension_N_m": _num(sol.tension),
-            "at_cmc_ceiling": (not feasible) or bool(np.all(sol.state.micelle_mol > 0)),
-        },
-        "split_mol": split,
-        "target": {"kind": i.target_kind, "value_si": _num(i.target_value), "margin": _num(i.margin)},
-        "phases": {
-            "continuous": cont, "dispersed": disp,
-            "continuous_volume_m3": vc, "dispersed_volume_m3": vd,
-            "batch_volume_m3": _num(i.volume), "batch_mass_kg": _num(sol.batch_mass),
-        },
-        "area": {
-            "per_batch_m2": area,
-            "per_m3_dispersion_m2_m3": area / _num(i.volume),
-            "per_m3_continuous_m2_m3": area / vc,
-            "per_kg_dispersed_m2_kg": _num(area / (vd * i.dispersed_density)) if i.system != "foam" else None,
-        },
-        "size_m": {k: _num(v) if v is not None else None for k, v in stats.items()},
-        "surfactant": {
-            "model": i.model,
-            "max_surface_excess_mol_m2": _num(i.max_surface_excess),
-            "adsorption_constant_m3_mol": _num(i.adsorption_constant),
-            "cmc_mol_m3": _num(i.cmc),
-            "partition_coefficient": _num(i.partition_coefficient),
-            "clean_tension_N_m": _num(i.clean_tension),
-            "clean_tension_source": i.clean_tension_source if math.isfinite(float(np.asarray(i.clean_tension))) else None,
-            "molar_mass_kg_mol": _num(i.molar_mass),
-            "active_fraction": _num(i.active_fraction),
-        },
-    }
     size_notes = list(getattr(i.size_stats, "notes", ()) or ())
-    out["warnings"] = size_notes + tension_warnings(i, sol.tension) + plausibility_warnings(sol)
-    if not feasible:
-        out["unreachable"] = (
-            f"the target needs a free concentration above the CMC; at equilibrium the coverage "
-            f"cannot exceed {float(sol.max_coverage):.4g}"
-        )
-    return out
+    return size_notes + tension_warnings(i, sol.tension) + plausibility_warnings(sol)

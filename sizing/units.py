@@ -12,6 +12,8 @@ import math
 import re
 from functools import lru_cache
 
+import pint
+
 from .errors import InputError
 
 # Dimension name -> (pint dimensionality string, SI unit, an accepted spelling for messages)
@@ -46,8 +48,6 @@ _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s
 @lru_cache(maxsize=1)
 def registry():
     """Return the package's pint registry (built once, set as the application registry)."""
-    import pint
-
     try:
         ureg = pint.UnitRegistry(cache_folder=":auto:")
     except Exception:  # pragma: no cover - cache folder not writable
@@ -127,7 +127,6 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
     if dimension == "dimensionless" and unit == "%":
         return number / 100.0
     ureg = registry()
-    import pint
 
     try:
         unit_obj = ureg.parse_units(_clean(unit))

@@ -9,14 +9,29 @@ No physics is added here: each curve is one vectorised :func:`sizing.model.solve
 from __future__ import annotations
 
 import copy
+import csv
+import io
+import json
 import math
+import tomllib
 from pathlib import Path
 
 import numpy as np
 
+from .case import read_size_table, table_path
 from .errors import InputError
-from .model import case_inputs, solution_json, solve, split_by_phase, target_concentration
+from .model import case_inputs, solve, solve_case, split_by_phase, target_concentration
+from .outputs.plan_files import build_outputs
+from .outputs.result_json import adsorption_json, scaleup_json, uncertainty_json
+from .outputs.solve_json import solution_json
 from .physics import distribution
+from .physics.isotherm import theta_of_c
+from .planning import uncertainty
+from .planning.achievable import achievable_curve
+from .planning.kinetics import adsorption_check
+from .planning.uncertainty import NOT_IN_DOSE, spread_quantiles
+from .texts import field_label, unreachable_explanation  # noqa: F401  (field_label: used by the workbench)
+from .units import _NUMBER, DIMENSIONS, format_si, parse
 
 # ---------------------------------------------------------------------------------------------
 # the built-in demo and a blank case
@@ -46,8 +61,6 @@ def load_demo(path: Path | str | None = None) -> tuple[dict, Path]:
 
     ``path`` is one of :func:`demo_cases`; None loads the built-in demo.
     """
-    import tomllib
-
     path = demo_case_path() if path is None else Path(path)
     return tomllib.loads(path.read_text(encoding="utf-8")), path.parent
 
@@ -58,8 +71,6 @@ def demo_cases() -> list[tuple[str, Path]]:
     The folder ``cases_demo/`` is found beside the package in a source checkout (the README's
     editable install); an installed wheel has only the built-in demo.
     """
-    import tomllib
-
     out = [("Built-in demo: " + _title(demo_case_path(), tomllib), demo_case_path())]
     folder = _PACKAGE.parent / "cases_demo"
     if folder.is_dir():
@@ -147,14 +158,7 @@ def unreachable_text(case) -> str | None:
     what = {"coverage": f"a coverage of {_f(inputs.target_value):.3g}",
             "tension": f"a tension of {_f(inputs.target_value) * 1e3:.3g} mN/m",
             "free_concentration": f"a free concentration of {_f(inputs.target_value):.3g} mM"}[kind]
-    return (
-        f"The target ({what}) needs {_f(c):.3g} mM of free surfactant in the continuous phase "
-        f"(coverage {_f(theta):.3g}), but the CMC is {_f(inputs.cmc):.3g} mM. Surfactant added "
-        f"beyond the CMC forms micelles and the free concentration stops rising, so at equilibrium "
-        f"the coverage cannot exceed {_f(sol.max_coverage):.3g}, whatever the dose. Lower the "
-        f"target to at most that coverage, or choose a surfactant that adsorbs more strongly "
-        f"(a larger adsorption constant) or has a higher CMC."
-    )
+    return unreachable_explanation(what, _f(c), _f(theta), _f(inputs.cmc), _f(sol.max_coverage))
 
 
 def dose_split(case, d32: float | None = None) -> list[dict]:
@@ -263,7 +267,7 @@ def size_curve(case, points: int = 200) -> dict | None:
         grid = np.geomspace(x * 0.01 ** (1 / n) / 3, x * 5.0 ** (1 / n) * 1.5, points)
         q3 = distribution.rrsb_volume_density(x, n, grid)
     elif d.distribution == "table":
-        table = distribution.read_size_table(distribution.table_path(d.file, case.base_dir))
+        table = read_size_table(table_path(d.file, case.base_dir))
         # a step per class: uniform volume density in ln d inside each class
         width = np.log(table.upper / table.lower)
         level = table.volume_fraction / width
@@ -299,12 +303,6 @@ def plan_view(case) -> dict:
         ``result`` (result.json as a dict), ``files`` {``report.html``, ``result.json``,
         ``trial_plan.csv``: text}, ``trial_columns`` and ``trial_rows`` (the CSV as rows).
     """
-    import csv
-    import io
-    import json
-
-    from .cli.plan import build_outputs
-
     _, files = build_outputs(case, None)
     rows = list(csv.reader(io.StringIO(files["trial_plan.csv"])))
     return {"result": json.loads(files["result.json"]), "files": files,
@@ -315,7 +313,6 @@ def scaleup_view(case) -> dict | None:
     """Return ``sizing scaleup --json`` of the case, or None when it has no ``[scaleup]`` section."""
     if getattr(case, "scaleup", None) is None:
         return None
-    from .planning.scaleup import scaleup_json
 
     return scaleup_json(case)
 
@@ -330,8 +327,6 @@ def uncertainty_view(case, bins: int = 40) -> dict | None:
         ``summary`` (the result.json ``uncertainty`` block, with the one-at-a-time
         ``sensitivity`` swings for a tornado chart).
     """
-    from .planning import uncertainty
-
     plant = getattr(case, "scaleup", None) is not None
     if not case.spreads() and not plant:
         return None
@@ -342,7 +337,7 @@ def uncertainty_view(case, bins: int = 40) -> dict | None:
             return None
         raise
     h = uncertainty.histogram(mc, bins)
-    summary = uncertainty.uncertainty_json(case, mc)
+    summary = uncertainty_json(case, mc)
     return {"edges_kg": np.asarray(h["edges_kg"], dtype=float).tolist(),
             "counts": np.asarray(h["counts"], dtype=int).tolist(),
             "p10": h["p10"], "p50": h["p50"], "p90": h["p90"], "summary": summary}
@@ -357,8 +352,6 @@ def achievable_view(case, points: int = 121) -> dict:
         ``kg_product`` and ``d32_m`` [m] (lists), ``limited_by`` (list of 'surfactant' or
         'homogeniser'), ``knee_kg_product`` [kg], ``knee_d32_m`` [m], ``bulk_loss_kg_product`` [kg].
     """
-    from .planning.achievable import achievable_curve
-
     inputs = case_inputs(case)
     c = achievable_curve(inputs, n_points=points)
     per_mol = _f(inputs.molar_mass) / _f(inputs.active_fraction)  # kg of product per mol of active
@@ -375,8 +368,6 @@ def depletion_curve(langmuir: dict, c_low: float, c_high: float, points: int = 8
     ``langmuir`` is one entry of :attr:`sizing.fit_depletion.DepletionFit.langmuir`; returns
     ``{"c_mol_m3", "surface_excess_mol_m2"}`` (lists) or None when that sample has no fit.
     """
-    from .physics.isotherm import theta_of_c
-
     if not isinstance(langmuir, dict) or "max_surface_excess_mol_m2" not in langmuir:
         return None
     c = np.geomspace(max(c_low, 1e-12), max(c_high, c_low * 10), points)
@@ -387,27 +378,6 @@ def depletion_curve(langmuir: dict, c_low: float, c_high: float, points: int = 8
 # ---------------------------------------------------------------------------------------------
 # spreads for the Monte Carlo, and the adsorption-speed check
 
-_MORE_LABELS = {
-    "scaleup.plant": "plant process variable", "scaleup.plant_diameter": "plant impeller diameter",
-    "scaleup.exponent": "power-law exponent b", "scaleup.lab_diameter": "lab impeller diameter",
-    "scaleup.lab_speed": "lab speed", "scaleup.plant_speed": "plant speed",
-    "scaleup.weber_exponent": "Weber exponent", "process.residence_time": "residence time in the homogeniser",
-}
-
-
-def field_label(path: str) -> str:
-    """Return a readable name of a case field (``"drops.d32"`` -> ``"Sauter mean diameter d32"``).
-
-    >>> field_label("drops.d32")
-    'Sauter mean diameter d32'
-    >>> field_label("batch.some_key")
-    'some key'
-    """
-    from .planning.plan import _LABELS
-
-    return _LABELS.get(path) or _MORE_LABELS.get(path) or path.partition(".")[2].replace("_", " ")
-
-
 def _value_text(raw) -> str:
     raw = raw.get("value") if isinstance(raw, dict) else raw
     return "" if raw is None else str(raw)
@@ -415,8 +385,6 @@ def _value_text(raw) -> str:
 
 def _unit_of(raw, dimension: str) -> str:
     """Return the unit the user wrote a value in (the SI unit when none is readable)."""
-    from .units import _NUMBER, DIMENSIONS
-
     m = _NUMBER.match(raw) if isinstance(raw, str) else None
     unit = m.group(2) if m else ""
     return unit or DIMENSIONS[dimension][1]
@@ -433,9 +401,6 @@ def spread_fields(case) -> list[dict]:
         ``{"kind": "lognormal", "rel_sd": x}`` or ``{"kind": "uniform", "low": text, "high": text}``)
         and ``in_dose`` (False where a spread cannot move the dose).
     """
-    from .planning.uncertainty import NOT_IN_DOSE
-    from .units import DIMENSIONS
-
     out = []
     for path, v in case.quantities().items():
         spread = None
@@ -473,8 +438,6 @@ def spread_entry(value, kind: str, rel_sd: str = "", low: str = "", high: str = 
     >>> spread_entry(0.25, "uniform", low="0.2", high=" 0.3 ")
     {'value': 0.25, 'low': 0.2, 'high': 0.3}
     """
-    from .units import parse
-
     value = value.get("value") if isinstance(value, dict) else value
     if kind == "none":
         return value
@@ -509,9 +472,6 @@ def spread_rows(case) -> list[dict]:
     Rows: ``field``, ``quantity``, ``distribution``, ``value``, ``spread``, ``P10``, ``P90`` (text
     with units), ``unit`` (``"-"`` for a plain number); for a uniform spread P10 and P90 are 10 % and 90 % of the way from low to high).
     """
-    from .planning.uncertainty import spread_quantiles
-    from .units import format_si
-
     rows = []
     for path, v in case.spreads().items():
         unit = _unit_of(_value_text(v.raw), v.dimension)
@@ -545,9 +505,6 @@ def adsorption_view(case) -> dict:
         ``diffusivity`` and ``residence_time`` (as written, or None); with a check, ``check``:
         :func:`sizing.kinetics.adsorption_check` (h [m], tau_D [s], t_res [s], ratio [-], message).
     """
-    from .model import solve_case
-    from .planning.kinetics import adsorption_check
-
     d = case.surfactant.diffusivity
     proc = getattr(case, "process", None)
     t = proc.residence_time if proc is not None else None
@@ -562,7 +519,8 @@ def adsorption_view(case) -> dict:
     if not bool(np.all(sol.feasible)):
         out["status"] = "unreachable"
         return out
-    out["check"] = adsorption_check(case, sol)
+    check = adsorption_check(case, sol)
+    out["check"] = adsorption_json(check) if check is not None else None
     out["status"] = "flagged" if out["check"]["optimistic"] else "ok"
     return out
 
@@ -573,8 +531,6 @@ def spread_note(case, path: str) -> str | None:
     Fields outside the dose (the adsorption-speed inputs, the rounding step) are known up front;
     others (e.g. the temperature under a coverage target) are found by the sensitivity swings.
     """
-    from .planning import uncertainty
-
     if path in uncertainty.NOT_IN_DOSE:
         return (f"{path}: carries a spread but does not change the dose ({uncertainty.NOT_IN_DOSE[path]}); "
                 "it is left out of the Monte Carlo")
@@ -591,8 +547,6 @@ def spread_note(case, path: str) -> str | None:
 
 def fitted_plot_name(block_path: Path | str) -> str | None:
     """Return the plot file a fitted ``[surfactant]`` block names in ``[provenance] plot``."""
-    import tomllib
-
     try:
         prov = tomllib.loads(Path(block_path).read_text(encoding="utf-8")).get("provenance", {})
     except (OSError, tomllib.TOMLDecodeError):

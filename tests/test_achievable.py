@@ -9,7 +9,8 @@ import pytest
 from sizing.case import case_with, load_case
 from sizing.cli import main
 from sizing.model import case_inputs, solve
-from sizing.planning.achievable import achievable, achievable_curve, achievable_json, surfactant_limited_d32
+from sizing.outputs.result_json import achievable_json
+from sizing.planning.achievable import achievable, achievable_curve, surfactant_limited_d32
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"

@@ -10,7 +10,7 @@ import pytest
 from sizing import model
 from sizing.case import load_case
 from sizing.cli import main
-from sizing.cli.plan import build_outputs
+from sizing.outputs.plan_files import build_outputs
 from sizing.planning.plan import charge_for_dose
 
 ROOT = Path(__file__).resolve().parents[1]

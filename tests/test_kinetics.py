@@ -51,10 +51,10 @@ def test_case_check_on_the_demo():
     out = adsorption_check(case)
     sol = solve_case(case)
     c, g = float(sol.state.free_concentration), float(sol.surface_excess)
-    assert out["diffusion_time_s"] == pytest.approx((g / c) ** 2 / 6e-10, rel=1e-12)
-    assert out["residence_time_s"] == pytest.approx(5e-4, rel=1e-12)
-    assert out["optimistic"] is True
-    assert "OPTIMISTIC" in out["message"] and "s against a residence time of" in out["message"]
+    assert out.diffusion_time_s == pytest.approx((g / c) ** 2 / 6e-10, rel=1e-12)
+    assert out.residence_time_s == pytest.approx(5e-4, rel=1e-12)
+    assert out.optimistic is True
+    assert "OPTIMISTIC" in out.message and "s against a residence time of" in out.message
 
 
 def test_case_check_needs_both_inputs_and_names_bad_ones():
@@ -62,7 +62,7 @@ def test_case_check_needs_both_inputs_and_names_bad_ones():
     slow_enough = case_with(load_case(LOTION), {"surfactant.diffusivity": "6e-10 m**2/s",
                                                 "process.residence_time": "10 s"})
     out = adsorption_check(slow_enough)
-    assert out["optimistic"] is False and out["message"].startswith("adsorption fast enough")
+    assert out.optimistic is False and out.message.startswith("adsorption fast enough")
     with pytest.raises(InputError, match="process.residence_time"):
         case_with(load_case(LOTION), {"process.residence_time": "10 m"})
     with pytest.raises(InputError, match="process.residence_time"):

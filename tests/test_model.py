@@ -9,7 +9,8 @@ import pytest
 from sizing.case import case_with, load_case
 from sizing.cli import main
 from sizing.errors import InputError
-from sizing.model import case_inputs, parse_dose, solution_json, solve, solve_case
+from sizing.model import case_inputs, parse_dose, solve, solve_case
+from sizing.outputs.solve_json import solution_json
 from sizing.physics.properties import water_surface_tension
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -153,7 +154,8 @@ def test_unknown_override_is_refused():
 def test_negative_tension_is_flagged_not_hidden(capsys):
     # A pressure n R T Gamma_inf ln(1/(1 - theta)) above the clean tension is unphysical (the
     # tension of an interface cannot be negative; common practice): solve and plan say so.
-    from sizing.planning.plan import build_plan, plan_json
+    from sizing.outputs.result_json import plan_json
+    from sizing.planning.plan import build_plan
 
     bad = case_with(load_case(LOTION), {"surfactant.clean_tension": "12 mN/m"})
     sol = solve_case(bad)

@@ -13,7 +13,9 @@ import pytest
 from sizing import model
 from sizing.case import case_with, load_case, loads_case
 from sizing.cli import main
-from sizing.planning.plan import build_plan, charge_for_dose, plan_json
+from sizing.outputs.result_json import plan_json
+from sizing.outputs.solve_json import solution_json
+from sizing.planning.plan import build_plan, charge_for_dose
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"
@@ -89,7 +91,7 @@ margin = 0.0
 increment = "0.001 kg"
 """
     plan = build_plan(loads_case(text))
-    j = plan.solve_json
+    j = solution_json(plan.solution, plan.case)
     # area identity 6 phi / d32 per m3 of dispersion (REFERENCES.md [D]): 1.2e6 m2/m3
     assert j["interfacial_area_m2"] == pytest.approx(1.2e6, rel=1e-12)
     assert j["dose"]["kg_active"] / 0.8 == pytest.approx(3.00, rel=1e-9)
@@ -132,13 +134,35 @@ def test_result_json_keys(lotion):
     assert any("local codes" in c for c in j["cautions"])
 
 
-def test_extras_are_merged_into_result_json(lotion):
+def test_plan_parts_are_typed_and_frozen(lotion):
+    import dataclasses
+
     _, plan = lotion
-    plan.extras["uncertainty"] = {"samples": 10}
-    try:
-        assert plan_json(plan)["uncertainty"] == {"samples": 10}
-    finally:
-        plan.extras.clear()
+    assert plan.uncertainty is None and plan.scaleup is None and plan.adsorption is None  # no spreads
+    assert plan.achievable is not None and len(plan.achievable.levels) == len(plan.trial)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        plan.uncertainty = None
+    j = plan_json(plan)
+    assert "uncertainty" not in j and "scaleup" not in j
+    assert [lv["limited_by"] for lv in j["trial_levels"]] == [lv.limited_by for lv in plan.achievable.levels]
+
+
+def test_unreachable_advice_follows_the_physics(lotion):
+    """The coverage ceiling is theta(K x CMC): it rises with a HIGHER CMC (or K), not a lower one.
+
+    Langmuir: theta_max = K CMC / (1 + K CMC) (the definition of the isotherm; common practice).
+    """
+    case, _ = lotion
+    hard = case_with(case, {"target.coverage": 0.95})
+    base = build_plan(hard)
+    cmc = hard.surfactant.cmc.si
+    higher = build_plan(case_with(hard, {"surfactant.cmc": f"{2 * cmc} mol/m**3"}))
+    lower = build_plan(case_with(hard, {"surfactant.cmc": f"{0.5 * cmc} mol/m**3"}))
+    m0 = float(base.solution.max_coverage)
+    assert float(higher.solution.max_coverage) > m0 > float(lower.solution.max_coverage)
+    text = " ".join(base.options)
+    assert "larger product K x CMC" in text and "higher CMC" in text
+    assert "lower CMC alone lowers it" in text
 
 
 def test_cli_plan_writes_three_files(tmp_path, capsys):
@@ -198,7 +222,6 @@ def test_plan_warns_when_the_percentile_cannot_be_covered():
     # 9.84): about (0.92 - 0.9077)/0.07 = 18 % of draws are unreachable, more than the 10 % a
     # P90 charge may leave out, so the plan must say so (regression of the plan's own logic).
     from sizing.case import case_with
-    from sizing.planning.plan import build_plan, plan_json
 
     case = case_with(load_case(LOTION), {"target.coverage": {"value": 0.89, "low": 0.85, "high": 0.92},
                                          "uncertainty.samples": 20000})
@@ -216,7 +239,6 @@ def test_cli_plan_json_prints_only_json(tmp_path, capsys):
 def test_plan_warns_when_levels_saturate_at_the_cmc():
     # Coverage 0.90 against a ceiling of 0.9077 (Langmuir, K cmc = 9.84): the 1 x and 1.25 x
     # levels both reach the CMC, so the trial could not tell them apart.
-    from sizing.planning.plan import build_plan, plan_json
 
     case = case_with(load_case(LOTION), {"target.coverage": 0.90})
     j = plan_json(build_plan(case))

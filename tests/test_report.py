@@ -61,5 +61,5 @@ def test_unreachable_report_explains_the_options():
 
 def test_sections_can_be_appended(lotion_html):
     plan, _ = lotion_html
-    extra = [lambda p: '<section id="extra">x [kg]</section>']
+    extra = (lambda p: "<section id=\"extra\">x [kg]</section>",)
     assert '<section id="extra">' in render(plan, SECTIONS + extra)

@@ -11,16 +11,17 @@ from scipy import stats
 from sizing.case import case_with, load_case
 from sizing.cli import main
 from sizing.errors import InputError
-from sizing.model import solution_json, solve_case
-from sizing.planning.scaleup import (
+from sizing.model import solve_case
+from sizing.outputs.result_json import scaleup_json
+from sizing.outputs.solve_json import solution_json
+from sizing.physics.dropsize import (
     DEFAULT_EXPONENTS,
     fit_power_law,
     predict_power_law,
-    scaleup_case,
-    scaleup_json,
     stirred_tank_ratio,
     stirred_tank_speed,
 )
+from sizing.planning.scaleup import scaleup_case
 
 ROOT = Path(__file__).resolve().parents[1]
 LOTION = ROOT / "cases_demo" / "lotion_o_w.toml"

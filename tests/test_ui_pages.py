@@ -120,7 +120,7 @@ def test_drops_page_shows_lognormal_statistics_and_area():
 
 
 def test_scaleup_page_matches_the_scaleup_engine():
-    from sizing.planning.scaleup import scaleup_json
+    from sizing.outputs.result_json import scaleup_json
 
     case_file = DEMOS / "miniemulsion_hph.toml"
     at = run(page("scaleup", case_file))

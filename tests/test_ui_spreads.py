@@ -104,11 +104,11 @@ def test_residence_time_shows_the_adsorption_flag():
     data = at.session_state["case_dict"]
     assert data["process"] == {"residence_time": "0.5 ms"}
     j = adsorption_check(parse_case(data, at.session_state["case_base_dir"]))
-    assert metric(at, "Adsorption depth h") == pytest.approx(j["depth_m"] * 1e6, rel=5e-3)
-    assert metric(at, "Diffusion time tau_D") == pytest.approx(j["diffusion_time_s"], rel=5e-3)
+    assert metric(at, "Adsorption depth h") == pytest.approx(j.depth_m * 1e6, rel=5e-3)
+    assert metric(at, "Diffusion time tau_D") == pytest.approx(j.diffusion_time_s, rel=5e-3)
     assert metric(at, "Residence time t_res") == pytest.approx(5e-4, rel=1e-9)
-    assert metric(at, "tau_D / t_res") == pytest.approx(j["ratio"], rel=5e-3)
-    assert j["optimistic"]  # tau_D about 0.7 ms against 0.5 ms
+    assert metric(at, "tau_D / t_res") == pytest.approx(j.ratio, rel=5e-3)
+    assert j.optimistic  # tau_D about 0.7 ms against 0.5 ms
     assert any("equilibrium dose is optimistic" in w.value for w in at.warning)
     at.text_input(key="f:process.residence_time").set_value("10 s")
     run(at)

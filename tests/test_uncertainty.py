@@ -9,9 +9,11 @@ import pytest
 from scipy import stats
 
 import sizing.model
+import sizing.planning.uncertainty
 from sizing.case import Value, case_with, load_case
 from sizing.errors import InputError
 from sizing.model import solve_case
+from sizing.outputs.result_json import uncertainty_json
 from sizing.planning.uncertainty import (
     bench_monte_carlo,
     covering_charge,
@@ -20,7 +22,6 @@ from sizing.planning.uncertainty import (
     sample_spread,
     sensitivity,
     spread_quantiles,
-    uncertainty_json,
 )
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -89,7 +90,7 @@ def test_one_vectorised_solve_for_all_draws(monkeypatch):
         calls.append(np.size(sol.dose_mol))
         return sol
 
-    monkeypatch.setattr(sizing.model, "solve", counting)
+    monkeypatch.setattr(sizing.planning.uncertainty, "solve", counting)
     monte_carlo(load_case(HPH), samples=N, seed=1)
     assert calls.count(N) == 1
 
@@ -181,7 +182,7 @@ def test_bench_hook_returns_a_median():
 def test_plan_covers_the_percentile_and_reports_it():
     # result.json contract (DESIGN.md): uncertainty {samples, dose_kg_product {p10, p50, p90},
     # probability_target_met}; the charge covers P90 with the margin; the report says so
-    from sizing.cli.plan import build_outputs
+    from sizing.outputs.plan_files import build_outputs
 
     case = load_case(HPH)
     plan, files = build_outputs(case, HPH)

@@ -9,7 +9,11 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
+
+from ..errors import InputError, SizingError
+from ..version import __version__
 
 # verb modules, in the order they appear in --help
 VERBS = ("solve", "plan", "sweep", "check", "fit", "scaleup", "achievable", "bench", "app")
@@ -20,7 +24,6 @@ def build_parser() -> argparse.ArgumentParser:
         prog="sizing",
         description="Size the surfactant dose for an emulsion or a foam and plan the plant trial.",
     )
-    from .. import __version__
 
     parser.add_argument("--version", action="version", version=f"sizing {__version__}")
     sub = parser.add_subparsers(dest="verb", metavar="COMMAND")
@@ -36,8 +39,6 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
-    from ..errors import InputError, SizingError
-
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "func", None):
@@ -56,7 +57,6 @@ def main(argv: list[str] | None = None) -> int:
         print(f"error: file not found: {exc.filename}", file=sys.stderr)
         return 2
     except BrokenPipeError:  # output piped into `head` and the like: stop quietly
-        import os
 
         devnull = os.open(os.devnull, os.O_WRONLY)
         os.dup2(devnull, sys.stdout.fileno())

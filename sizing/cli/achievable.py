@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from ..case import load_case
+from ..outputs.result_json import achievable_json
 from ..units import sig
 from .common import print_json, table
 
@@ -43,9 +45,6 @@ def describe(out: dict) -> str:
 
 
 def run(args) -> int:
-    from ..case import load_case
-    from ..planning.achievable import achievable_json
-
     case = load_case(args.case)
     out = achievable_json(case, args.dose)
     if args.json:

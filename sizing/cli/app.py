@@ -2,6 +2,13 @@
 
 from __future__ import annotations
 
+import subprocess
+import sys
+from importlib.util import find_spec
+from pathlib import Path
+
+from ..errors import InputError
+
 
 def register(sub) -> None:
     p = sub.add_parser("app", help="start the Streamlit workbench in the browser (127.0.0.1)",
@@ -14,11 +21,6 @@ def register(sub) -> None:
 
 def entry_script():
     """Return the path of the installed workbench entry (``ui/app.py``)."""
-    from importlib.util import find_spec
-    from pathlib import Path
-
-    from ..errors import InputError
-
     spec = find_spec("ui")
     locations = list(spec.submodule_search_locations or []) if spec else []
     for folder in locations:
@@ -33,8 +35,6 @@ def command(port: int, headless: bool) -> list[str]:
 
     Streamlit runs through ``ui.launch``, which imports the engine before the first visitor.
     """
-    import sys
-
     return [sys.executable, "-m", "ui.launch", "run", str(entry_script()),
             "--server.address", "127.0.0.1", "--server.port", str(port),
             "--server.headless", "true" if headless else "false",
@@ -42,10 +42,6 @@ def command(port: int, headless: bool) -> list[str]:
 
 
 def run(args) -> int:
-    import subprocess
-
-    from ..errors import InputError
-
     if not 0 < args.port < 65536:
         raise InputError(f"--port: expected a port number from 1 to 65535, got {args.port}")
     print(f"sizing workbench on http://127.0.0.1:{args.port} (Ctrl+C to stop)", flush=True)

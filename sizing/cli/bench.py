@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+from ..bench import MODELS
+from ..bench import run as bench_run
+from ..errors import InputError
 from .common import print_json, table
 
 
@@ -17,10 +20,6 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    from ..bench import MODELS
-    from ..bench import run as bench_run
-    from ..errors import InputError
-
     if args.cases < 1000 or args.loop_cases < 10 or args.loop_cases > args.cases:
         raise InputError(f"--cases/--loop-cases: expected cases >= 1000 and 10 <= loop cases <= cases, "
                          f"got {args.cases} and {args.loop_cases}")

@@ -4,7 +4,12 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..case import load_case
+from ..model import case_inputs
+from ..outputs.jsonify import json_number
+from ..physics import balance, distribution, phases
 from ..units import DIMENSIONS, sig
+from .common import print_json, table
 
 
 def register(sub) -> None:
@@ -17,16 +22,11 @@ def register(sub) -> None:
 
 
 def _f(x):
-    from ..model import json_number
-
     return json_number(x)
 
 
 def resolve(case) -> dict:
     """Return ``{"inputs": {path: {si, unit, given}}, "derived": {...}}`` for a case (no solve)."""
-    from ..model import case_inputs
-    from ..physics import balance, distribution, phases
-
     inputs = {}
     for path, v in case.quantities().items():
         unit = DIMENSIONS[v.dimension][1]
@@ -62,8 +62,6 @@ def resolve(case) -> dict:
 
 
 def describe(out: dict) -> str:
-    from .common import table
-
     rows = []
     for path, d in out["inputs"].items():
         si = f"{sig(d['si'], 6)} {d['unit'] if d['unit'] != '-' else '(-)'}"
@@ -100,9 +98,6 @@ def describe(out: dict) -> str:
 
 
 def run(args) -> int:
-    from ..case import load_case
-    from .common import print_json
-
     case = load_case(args.case)
     out = resolve(case)
     if args.json:

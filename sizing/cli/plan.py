@@ -8,14 +8,18 @@ earlier report untouched.  Without CASE the built-in demo (``sizing/data/demo.to
 
 from __future__ import annotations
 
-import os
-import shutil
-import tempfile
+import math
+from importlib.resources import files
 from pathlib import Path
 
+from ..case import load_case, loads_case
+from ..outputs.jsonify import dumps
+from ..outputs.plan_files import OUTPUTS, build_outputs, write_outputs  # noqa: F401
+from ..outputs.result_json import plan_json
+from ..outputs.solve_json import solution_json
+from ..planning.plan import plan_warnings
+from ..texts import CLI_CAUTION
 from ..units import sig
-
-OUTPUTS = ("report.html", "result.json", "trial_plan.csv")
 
 
 def register(sub) -> None:
@@ -30,43 +34,7 @@ def register(sub) -> None:
 
 def demo_case_path():
     """Return the path of the built-in demo case shipped inside the package."""
-    from importlib.resources import files
-
     return files("sizing.data") / "demo.toml"
-
-
-def build_outputs(case, source) -> tuple[object, dict[str, str]]:
-    """Return ``(plan, {file name: text})`` for a validated case (nothing written)."""
-    from ..outputs import report
-    from ..planning.plan import build_plan, trial_csv
-    from .common import dumps
-
-    plan = build_plan(case, source)
-    files = {
-        "report.html": report.render(plan),
-        "result.json": dumps(plan.to_json()) + "\n",
-        "trial_plan.csv": trial_csv(plan),
-    }
-    return plan, files
-
-
-def write_outputs(out_dir: Path, files: dict[str, str]) -> list[Path]:
-    """Write the files through a temporary folder beside ``out_dir``, then move them in."""
-    out_dir = Path(out_dir)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.", suffix=".tmp"))
-    try:
-        for name, text in files.items():
-            with open(tmp / name, "w", encoding="utf-8", newline="") as fh:
-                fh.write(text)
-        out_dir.mkdir(parents=True, exist_ok=True)
-        written = []
-        for name in files:
-            os.replace(tmp / name, out_dir / name)
-            written.append(out_dir / name)
-        return written
-    finally:
-        shutil.rmtree(tmp, ignore_errors=True)
 
 
 def describe(plan) -> str:
@@ -74,20 +42,18 @@ def describe(plan) -> str:
     r = plan.recommendation
 
     def u(x, unit, scale=1.0, digits=4):
-        import math
-
         return "n/a" if x is None or not math.isfinite(x) else f"{sig(x * scale, digits)} {unit}"
 
     lines = [plan.case.case.title, "-" * len(plan.case.case.title)]
     if not plan.feasible:
-        lines += ["TARGET NOT REACHABLE at equilibrium: " + plan.solve_json.get("unreachable", ""),
+        lines += ["TARGET NOT REACHABLE at equilibrium: " + solution_json(plan.solution, plan.case).get("unreachable", ""),
                   "  the charge below is built on the dose that reaches the CMC ceiling; options:"]
         lines += [f"  - {o}" for o in plan.options]
     lines += [
         f"  recommended charge     {u(r.kg_product_per_batch, 'kg')} of {plan.case.surfactant.name} per batch",
         f"  active                 {u(r.kg_active_per_batch, 'kg')} ({u(r.mol_per_batch, 'mol')})",
         f"  built on               {u(r.base_kg_product, 'kg')} product"
-        f" {'at the CMC ceiling' if not plan.feasible else ('covering P%g of the spreads' % plan.extras['uncertainty']['json']['percentile']) if 'uncertainty' in plan.extras else 'for the target'}, margin {r.margin * 100:.3g} %, "
+        f" {'at the CMC ceiling' if not plan.feasible else ('covering P%g of the spreads' % plan.uncertainty.monte_carlo.percentile) if plan.uncertainty is not None else 'for the target'}, margin {r.margin * 100:.3g} %, "
         f"rounded up to {u(r.increment_kg, 'kg')}",
         f"  of batch mass          {u(r.wt_percent, 'wt% (product)')}",
         f"  on dispersed phase     {u(r.percent_on_dispersed, '% by mass (product)')}",
@@ -102,13 +68,8 @@ def describe(plan) -> str:
 
 
 def run(args) -> int:
-    from ..case import load_case
-    from .common import dumps
-
     if args.case is None:
         demo = demo_case_path()
-        from ..case import loads_case
-
         source = Path(str(demo))
         case = loads_case(demo.read_text(encoding="utf-8"), None, name="built-in demo case")
         stem = "demo"
@@ -120,17 +81,13 @@ def run(args) -> int:
     plan, files = build_outputs(case, source)
     written = write_outputs(out_dir, files)
     if args.json:  # one JSON object on stdout (result.json), nothing else
-        print(dumps(plan.to_json()))
+        print(dumps(plan_json(plan)))
         return 0
     print(describe(plan))
-    from ..planning.plan import plan_warnings
-
     for w in plan_warnings(plan):
         print(f"warning: {w}")
     print()
     for p in written:
         print(f"wrote {p}")
-    print("\nEquilibrium estimate: confirm the dose by a plant trial. Handle surfactants per their safety "
-          "data sheet;\nfood, cosmetic and pharmaceutical uses have legal emulsifier limits; defer to local "
-          "codes and\nqualified practice (see the cautions in report.html).")
+    print("\n" + CLI_CAUTION)
     return 0

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from ..case import load_case
+from ..outputs.result_json import scaleup_json
 from ..units import sig
 from .common import print_json, table
 
@@ -74,9 +76,6 @@ def describe(out: dict) -> str:
 
 
 def run(args) -> int:
-    from ..case import load_case
-    from ..planning.scaleup import scaleup_json
-
     case = load_case(args.case)
     out = scaleup_json(case)
     if args.json:

@@ -2,6 +2,9 @@
 
 from __future__ import annotations
 
+from ..case import load_case
+from ..model import solve_case
+from ..outputs.solve_json import solution_json
 from ..units import sig
 from .common import print_json, table
 
@@ -62,9 +65,6 @@ def describe(out: dict) -> str:
 
 
 def run(args) -> int:
-    from ..case import load_case
-    from ..model import solution_json, solve_case
-
     case = load_case(args.case)
     out = solution_json(solve_case(case, dose=args.dose), case)
     if args.dose is not None:

@@ -2,6 +2,12 @@
 
 from __future__ import annotations
 
+import sys
+
+from ..case import load_case
+from ..planning.sweep import sweep
+from .common import write_atomic
+
 
 def register(sub) -> None:
     p = sub.add_parser("sweep", help="what-if table of the dose over one or two inputs",
@@ -17,12 +23,6 @@ def register(sub) -> None:
 
 
 def run(args) -> int:
-    import sys
-
-    from ..case import load_case
-    from ..planning.sweep import sweep
-    from .common import write_atomic
-
     case = load_case(args.case)
     df = sweep(case, args.vary)
     print(df.to_string(index=False, float_format=lambda x: f"{x:.5g}"))

@@ -1,129 +1,40 @@
 """The plan report: one self-contained HTML file with inline SVG charts and a print stylesheet.
 
-The report is a list of section renderers, :data:`SECTIONS`; each takes a
-:class:`sizing.plan.Plan` and returns an HTML fragment ('' to skip).  Later parts append their
-own renderer (``SECTIONS.append(render_uncertainty)``) or insert it before the cautions.
+The report is a constant tuple of section renderers, :data:`SECTIONS`; each takes a
+:class:`sizing.planning.plan.Plan` and returns an HTML fragment ('' to skip).  The plan's
+optional parts (scale-up, achievable d32, uncertainty, adsorption speed) are drawn by the
+renderers of :mod:`sizing.outputs.report_parts`.
 
-Charts are drawn by matplotlib's SVG backend (no pyplot, no display), imported only when a
-report is rendered.  A fixed ``svg.hashsalt`` and no date in the metadata make the SVG, and so
-the whole report, byte-identical for the same inputs.  Nothing is loaded from the network.
+Charts are inline SVG (:mod:`sizing.outputs.htmlbits`): with a fixed hash salt and no date the
+whole report is byte-identical for the same inputs.  Nothing is loaded from the network.
 """
 
 from __future__ import annotations
 
-import html
-import io
 import math
 
 import numpy as np
 
-from ..units import sig
-
-SVG_RC = {"svg.hashsalt": "sizing-report", "svg.fonttype": "path", "font.size": 9,
-          "axes.grid": True, "grid.alpha": 0.3, "font.family": "DejaVu Sans"}
-
-CSS = """
-body{font-family:system-ui,-apple-system,'Segoe UI',Helvetica,Arial,sans-serif;max-width:60rem;
-margin:1.5rem auto;padding:0 1rem;color:#1b1b1b;line-height:1.4}
-h1{font-size:1.5rem;margin-bottom:.2rem}h2{font-size:1.15rem;border-bottom:1px solid #bbb;
-margin-top:1.8rem}table{border-collapse:collapse;margin:.5rem 0;font-size:.9rem}
-th,td{border:1px solid #ccc;padding:.25rem .5rem;text-align:left;vertical-align:top}
-td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}th{background:#f0f0f0}
-.big{font-size:1.3rem;font-weight:600}.warn{background:#fff3cd;border:1px solid #e0b000;
-padding:.6rem .8rem}.caution{background:#f6f6f6;border-left:4px solid #888;padding:.4rem .8rem}
-figure{margin:.5rem 0}figure svg{max-width:100%;height:auto}figcaption{font-size:.85rem;color:#444}
-pre.notes{white-space:pre-wrap;font-size:.8rem;background:#fafafa;border:1px solid #ddd;padding:.5rem}
-.muted{color:#555;font-size:.85rem}
-@media print{body{max-width:none;margin:0;font-size:10pt}section{break-inside:avoid-page}
-h2{break-after:avoid}figure{break-inside:avoid}a{color:inherit;text-decoration:none}
-@page{size:A4;margin:15mm}}
-"""
-
-
-# ---------------------------------------------------------------------------------------------
-# formatting helpers
-
-
-def esc(x) -> str:
-    return html.escape(str(x), quote=True)
-
-
-def q(x, unit: str, digits: int = 4, scale: float = 1.0) -> str:
-    """Format a number with its unit (``'13.5 kg'``); 'n/a' when unknown.
-
-    >>> q(13.5, "kg"), q(2e-6, "um", scale=1e6), q(float("nan"), "kg")
-    ('13.5 kg', '2 um', 'n/a')
-    """
-    if x is None:
-        return "n/a"
-    x = float(x)
-    if not math.isfinite(x):
-        return "n/a"
-    return f"{sig(x * scale, digits)} {unit}".strip()
-
-
-def table(rows, header=None, numeric_cols=(1,)) -> str:
-    """Return an HTML table; ``rows`` are sequences of already formatted cells."""
-    out = ["<table>"]
-    if header:
-        out.append("<tr>" + "".join(f"<th>{esc(h)}</th>" for h in header) + "</tr>")
-    for r in rows:
-        cells = []
-        for j, c in enumerate(r):
-            cls = ' class="n"' if j in numeric_cols else ""
-            cells.append(f"<td{cls}>{esc(c)}</td>")
-        out.append("<tr>" + "".join(cells) + "</tr>")
-    out.append("</table>")
-    return "\n".join(out)
-
-
-def section(anchor: str, title: str, body: str) -> str:
-    return f'<section id="{esc(anchor)}">\n<h2>{esc(title)}</h2>\n{body}\n</section>'
-
-
-def _figure():
-    from matplotlib.figure import Figure
-
-    return Figure(figsize=(7.0, 3.6), dpi=100, layout="constrained")
-
-
-def svg_of(fig) -> str:
-    """Return the figure as inline SVG text (no XML prolog; byte-stable)."""
-    import matplotlib
-
-    buf = io.StringIO()
-    with matplotlib.rc_context(SVG_RC):
-        fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None})
-    text = buf.getvalue()
-    start = text.find("<svg")
-    return text[start:] if start >= 0 else text
-
-
-def chart(draw, caption: str) -> str:
-    """Run ``draw(fig)`` under the report's style and return a <figure> with inline SVG."""
-    import matplotlib
-
-    with matplotlib.rc_context(SVG_RC):
-        fig = _figure()
-        draw(fig)
-        svg = svg_of(fig)
-    return f"<figure>{svg}<figcaption>{esc(caption)}</figcaption></figure>"
-
+from ..fitting.block import plot_svg_for_provenance
+from ..physics.phases import phase_names
+from ..planning.plan import plan_warnings
+from ..version import __version__
+from .htmlbits import CSS, chart, esc, q, section, table  # noqa: F401  (q: re-exported)
+from .report_parts import render_achievable, render_adsorption, render_scaleup, render_uncertainty
+from .solve_json import solution_json
 
 # ---------------------------------------------------------------------------------------------
 # sections
 
 
 def _phase_names(plan):
-    from ..physics.phases import phase_names
-
     return phase_names(plan.case.case.system, plan.case.case.continuous)
 
 
 def render_summary(plan) -> str:
     r = plan.recommendation
     c = plan.case
-    t = plan.solve_json["target"]
+    t = solution_json(plan.solution, plan.case)["target"]
     kind = t["kind"]
     if kind == "coverage":
         target = q(t["value_si"], "(coverage, -)")
@@ -138,7 +49,7 @@ def render_summary(plan) -> str:
                  'dose that just reaches the CMC ceiling; see "Target not reachable" below.</p>')
     rows = [
         ("target", target + f" (margin {r.margin * 100:.3g} %)"),
-        (("dose covering the chosen percentile of the spreads (before margin)" if "uncertainty" in plan.extras
+        (("dose covering the chosen percentile of the spreads (before margin)" if plan.uncertainty is not None
           else "dose for the target (before margin)") if plan.feasible else "dose at the CMC ceiling",
          q(r.base_kg_product, "kg product")),
         ("recommended charge", q(r.kg_product_per_batch, "kg product per batch")),
@@ -154,15 +65,13 @@ def render_summary(plan) -> str:
         ("tension at the charge", q(r.tension_at_charge, "mN/m", scale=1e3)),
         ("micelles at the charge", q(100 * r.micelle_share_at_charge, "% of the charge")),
     ]
-    from ..planning.plan import plan_warnings
-
     for w in plan_warnings(plan):
         lead += f'<p class="warn"><b>Check:</b> {esc(w)}</p>'
     return section("recommendation", "Recommendation", lead + table(rows))
 
 
 def render_case(plan) -> str:
-    j = plan.solve_json
+    j = solution_json(plan.solution, plan.case)
     cont, disp = _phase_names(plan)
     ph, area, size, s = j["phases"], j["area"], j["size_m"], j["surfactant"]
     i = plan.inputs
@@ -208,7 +117,7 @@ _SPLIT_COLORS = {"water": "#4c8bd6", "oil": "#d6a04c", "interface": "#4caf50", "
 def render_split(plan) -> str:
     r = plan.recommendation
     M = float(np.asarray(plan.inputs.molar_mass))
-    at_target = plan.solve_json["split_mol"]
+    at_target = solution_json(plan.solution, plan.case)["split_mol"]
     at_charge = r.split_mol_at_charge
     rows = []
     for k in ("water", "oil", "interface", "micelles"):
@@ -241,7 +150,7 @@ def render_split(plan) -> str:
 
 def render_coverage_chart(plan) -> str:
     cv, r = plan.curves, plan.recommendation
-    j = plan.solve_json
+    j = solution_json(plan.solution, plan.case)
 
     def draw(fig):
         ax = fig.add_subplot()
@@ -270,7 +179,7 @@ def render_coverage_chart(plan) -> str:
 
 def render_d32_chart(plan) -> str:
     cv, r = plan.curves, plan.recommendation
-    d32_case = plan.solve_json["d32_m"]
+    d32_case = solution_json(plan.solution, plan.case)["d32_m"]
 
     def draw(fig):
         ax = fig.add_subplot()
@@ -300,7 +209,7 @@ def render_d32_chart(plan) -> str:
     body = chart(draw, f"What if the plant makes other drops: dose against d32 from "
                        f"{q(lo, 'um', scale=1e6)} to {q(hi, 'um', scale=1e6)}, all else as in the case.")
     body += table(rows, ("d32 [um]", "dose [kg product]", "charge [kg product]"), numeric_cols=(0, 1, 2))
-    if "uncertainty" in plan.extras:
+    if plan.uncertainty is not None:
         body += ('<p>These what-if doses and charges are for the nominal inputs. The '
                  'recommendation covers the chosen percentile of the spreads (see the Monte Carlo '
                  'below), so its charge sits above this curve.</p>')
@@ -332,7 +241,7 @@ def render_trial(plan) -> str:
 def render_unreachable(plan) -> str:
     if plan.feasible:
         return ""
-    j = plan.solve_json
+    j = solution_json(plan.solution, plan.case)
     body = (f'<p class="warn">{esc(j.get("unreachable", "the target is not reachable"))}. The target asks '
             f"for a coverage of {esc(q(plan.target_coverage, '(-)'))}; the largest the CMC allows is "
             f"{esc(q(j['max_coverage'], '(-)'))}. Extra surfactant beyond "
@@ -366,10 +275,6 @@ def _fit_plot(path):
     if not path:
         return None
     try:
-        from ..fitting.block import plot_svg_for_provenance
-    except ImportError:
-        return None
-    try:
         return plot_svg_for_provenance(path)
     except Exception:  # the fit plot is an extra: never fail the report for it
         return None
@@ -380,13 +285,10 @@ def render_cautions(plan) -> str:
     return section("cautions", "Cautions", body)
 
 
-#: The report's sections, in order.  Append or insert renderers ``(plan) -> str``.
-SECTIONS = [render_summary, render_case, render_split, render_coverage_chart, render_d32_chart,
-            render_trial, render_unreachable, render_assumptions, render_cautions]
-# scale-up, achievable d32, uncertainty and adsorption speed (sizing.whatif), after the trial matrix
-from ..planning.parts import SECTIONS as _WHATIF  # noqa: E402
-
-SECTIONS[SECTIONS.index(render_trial) + 1:SECTIONS.index(render_trial) + 1] = list(_WHATIF)
+#: The report's sections, in order (each ``(plan) -> str``, '' to skip).
+SECTIONS = (render_summary, render_case, render_split, render_coverage_chart, render_d32_chart,
+            render_trial, render_scaleup, render_achievable, render_uncertainty, render_adsorption,
+            render_unreachable, render_assumptions, render_cautions)
 
 
 def render(plan, sections=None) -> str:
@@ -397,8 +299,6 @@ def render(plan, sections=None) -> str:
     plan : :class:`sizing.plan.Plan`
     sections : renderers to use (default :data:`SECTIONS`)
     """
-    from .. import __version__
-
     parts = [r(plan) for r in (SECTIONS if sections is None else sections)]
     title = plan.case.case.title
     head = (f'<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n'

@@ -25,7 +25,6 @@ References
 from __future__ import annotations
 
 from dataclasses import dataclass
-from pathlib import Path
 
 import numpy as np
 from scipy.special import gamma as gamma_fn
@@ -253,15 +252,6 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
     return SizeTable(lower, upper, weights / total, source, kind, counts, tuple(notes))
 
 
-def read_size_table(path) -> SizeTable:
-    """Read a measured size table CSV (units in the header, e.g. ``upper [um],volume [%]``)."""
-    from ..labcsv import read_lab_csv
-
-    dims = {"lower": "length", "upper": "length", "size": "length"}
-    table = read_lab_csv(path, dims)
-    return table_from_columns(table.columns, str(path))
-
-
 def table_stats(table: SizeTable) -> SizeStats:
     """Return the statistics of a measured size table, integrating inside each class.
 
@@ -316,9 +306,3 @@ def interfacial_area(d32, dispersed_volume, shape_factor=1.0):
     1200000.0
     """
     return np.asarray(shape_factor) * 6.0 * np.asarray(dispersed_volume) / np.asarray(d32)
-
-
-def table_path(file: str, base: Path | None) -> Path:
-    """Resolve a size-table path relative to the case file's folder."""
-    p = Path(file)
-    return p if p.is_absolute() or base is None else (base / p)

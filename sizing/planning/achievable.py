@@ -30,6 +30,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
+from ..model import target_concentration
 from ..physics import phases
 
 
@@ -104,8 +105,6 @@ def achievable(inputs, dose_mol) -> Achievable:
     InputError
         A negative or non-finite dose.
     """
-    from ..model import target_concentration
-
     n = np.asarray(dose_mol, dtype=float)
     if np.any(~np.isfinite(n)) or np.any(n < 0):
         raise InputError(f"--dose: expected an amount >= 0, got {float(np.min(n))!r} mol")
@@ -140,45 +139,3 @@ def achievable_curve(inputs, n_points: int = 121, span: tuple = (0.05, 3.0)) -> 
     a = achievable(inputs, doses)
     return {"dose_mol": doses, "d32_m": a.d32, "limited_by": a.limited_by, "knee_dose_mol": knee,
             "knee_d32_m": float(np.asarray(inputs.d32)), "bulk_loss_mol": float(a.bulk_loss_mol[0])}
-
-
-def achievable_json(case, dose) -> dict:
-    """Return the ``sizing achievable --json`` object for a dose (text such as ``"2 kg"`` or mol)."""
-    from ..model import case_inputs, parse_dose
-
-    inputs = case_inputs(case)
-    dose_mol = parse_dose(dose, inputs.molar_mass) if isinstance(dose, str) else float(dose)
-    a = achievable(inputs, dose_mol)
-    m, af = float(inputs.molar_mass), float(inputs.active_fraction)
-
-    from ..model import json_number as f
-
-    feasible = bool(np.all(a.feasible))
-    knee = f(a.knee_dose_mol) if feasible else None
-    d32 = f(a.d32)
-    vd = float(phases.phase_volumes(inputs.volume, inputs.dispersed_fraction)[1])
-    out = {
-        "title": case.case.title,
-        "dose_mol": dose_mol,
-        "dose_kg_active": dose_mol * m,
-        "dose_kg_product": dose_mol * m / af,
-        "d32_m": d32 if feasible else None,
-        "limited_by": str(a.limited_by),
-        "knee_dose_mol": knee,
-        "knee_dose_kg_active": knee * m if knee is not None else None,
-        "knee_dose_kg_product": knee * m / af if knee is not None else None,
-        "homogeniser_d32_m": f(a.homogeniser_d32),
-        "surfactant_d32_m": f(a.surfactant_d32),
-        "interfacial_area_m2": 6.0 * float(inputs.shape_factor) * vd / d32 if d32 else 0.0,
-        "min_coverage": f(a.min_coverage),
-        "min_free_concentration_mol_m3": f(a.min_concentration),
-        "bulk_loss_mol": f(a.bulk_loss_mol),
-        "feasible": feasible,
-    }
-    if not feasible:
-        out["unreachable"] = ("the coverage needed to stabilise new interface needs a free concentration "
-                              "above the CMC: no dose reaches it at equilibrium")
-    elif d32 is None:
-        out["note"] = ("the dose does not even cover what the continuous phase and the drops take at the "
-                       "needed free concentration: no stable interface is made")
-    return out

@@ -28,6 +28,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
+from ..model import solve_case
 
 FLAG_RATIO = 0.1  # tau_D / t_res above which the equilibrium dose is flagged optimistic
 
@@ -90,20 +91,39 @@ def adsorption_speed(surface_excess, concentration, diffusivity, residence_time=
                            optimistic=np.asarray(np.isfinite(t) & (ratio > FLAG_RATIO)))
 
 
-def adsorption_check(case, solution=None) -> dict | None:
-    """Return the adsorption-speed block of a case, or None when it lacks the data.
+@dataclass(frozen=True)
+class AdsorptionCheck:
+    """The adsorption-speed check of a solved case (its JSON is ``adsorption`` in result.json).
+
+    Attributes
+    ----------
+    depth_m : h = Gamma / c [m]; diffusion_time_s : tau_D = h**2 / D [s]
+    ward_tordai_time_s : (pi/4) tau_D [s]; residence_time_s : t_res [s]
+    ratio : tau_D / t_res [-]; threshold : the flag ratio :data:`FLAG_RATIO` [-]
+    optimistic : the equilibrium dose is flagged optimistic (ratio above the threshold)
+    free_concentration_mol_m3 : c [mol/m**3]; surface_excess_mol_m2 : Gamma [mol/m**2]
+    diffusivity_m2_s : D [m**2/s]; message : the figures and the verdict in words
+    """
+
+    depth_m: float
+    diffusion_time_s: float
+    ward_tordai_time_s: float
+    residence_time_s: float
+    ratio: float
+    threshold: float
+    optimistic: bool
+    free_concentration_mol_m3: float
+    surface_excess_mol_m2: float
+    diffusivity_m2_s: float
+    message: str
+
+
+def adsorption_check(case, solution=None) -> AdsorptionCheck | None:
+    """Return the adsorption-speed check of a case, or None when it lacks the data.
 
     Needs ``surfactant.diffusivity`` and ``[process] residence_time``; uses the free monomer and
     surface excess of the solved state (the target, or ``solution`` if given).
-
-    Returns
-    -------
-    dict
-        ``depth_m``, ``diffusion_time_s``, ``ward_tordai_time_s``, ``residence_time_s``, ``ratio``,
-        ``threshold``, ``optimistic`` (bool), ``message``; None if the data are missing.
     """
-    from ..model import solve_case
-
     d = case.surfactant.diffusivity
     proc = getattr(case, "process", None)
     t_res = proc.residence_time if proc is not None else None
@@ -115,19 +135,18 @@ def adsorption_check(case, solution=None) -> dict | None:
     if not c > 0:
         raise InputError("adsorption check: the solved free monomer concentration is 0; nothing to adsorb")
     a = adsorption_speed(g, c, d.si, t_res.si)
-    out = {
-        "depth_m": float(a.depth), "diffusion_time_s": float(a.diffusion_time),
-        "ward_tordai_time_s": float(a.ward_tordai_time), "residence_time_s": float(a.residence_time),
-        "ratio": float(a.ratio), "threshold": FLAG_RATIO, "optimistic": bool(a.optimistic),
-        "free_concentration_mol_m3": c, "surface_excess_mol_m2": g, "diffusivity_m2_s": d.si,
-    }
+    optimistic = bool(a.optimistic)
     figures = (f"tau_D = (Gamma/c)**2/D = ({g * 1e6:.3g} umol/m**2 / {c:.3g} mM)**2 / {d.si:.3g} m**2/s "
                f"= {a.diffusion_time:.3g} s against a residence time of {t_res.si:.3g} s "
                f"(ratio {float(a.ratio):.3g})")
-    if out["optimistic"]:
-        out["message"] = ("ADSORPTION MAY BE TOO SLOW: " + figures + f"; above {FLAG_RATIO:g} the new interface "
-                          "is not covered while drops are made, so the equilibrium dose is OPTIMISTIC; expect "
-                          "larger drops or more coalescence, and test a higher level in the trial")
+    if optimistic:
+        message = ("ADSORPTION MAY BE TOO SLOW: " + figures + f"; above {FLAG_RATIO:g} the new interface "
+                   "is not covered while drops are made, so the equilibrium dose is OPTIMISTIC; expect "
+                   "larger drops or more coalescence, and test a higher level in the trial")
     else:
-        out["message"] = "adsorption fast enough: " + figures
-    return out
+        message = "adsorption fast enough: " + figures
+    return AdsorptionCheck(
+        depth_m=float(a.depth), diffusion_time_s=float(a.diffusion_time),
+        ward_tordai_time_s=float(a.ward_tordai_time), residence_time_s=float(a.residence_time),
+        ratio=float(a.ratio), threshold=FLAG_RATIO, optimistic=optimistic,
+        free_concentration_mol_m3=c, surface_excess_mol_m2=g, diffusivity_m2_s=d.si, message=message)

@@ -1,219 +1,127 @@
-"""Scale-up and what-if parts of the plan: data for result.json and the report's sections.
+"""The optional parts of a plan, as typed frozen objects: scale-up, achievable d32, uncertainty, adsorption.
 
-:func:`plan_monte_carlo` runs the Monte Carlo when the case has spreads (or an
-``[uncertainty]`` section with a scale-up band to sample); :func:`sizing.plan.build_plan` then
-bases the charge on the chosen percentile.  :func:`attach` fills ``plan.extras`` with
+:func:`plan_monte_carlo` runs the Monte Carlo when the case has spreads (or an ``[uncertainty]``
+section with a scale-up band to sample); :func:`sizing.planning.plan.build_plan` then bases the
+charge on the chosen percentile and builds each part here:
 
-- ``scaleup``: plant d32, its band and the lab d32 (when ``[scaleup]`` is given);
-- ``achievable``: the d32 reached at each trial level, the knee dose and the d32-dose curve;
-- ``uncertainty``: the Monte Carlo block of result.json (``samples``, ``dose_kg_product``
-  {``p10``, ``p50``, ``p90``}, ``probability_target_met``, ...) and the tornado data;
-- ``adsorption``: the adsorption-speed check (when diffusivity and residence time are given);
+- ``scaleup``: :class:`sizing.planning.scaleup.ScaleupResult` (when ``[scaleup]`` is given);
+- ``achievable``: :class:`AchievablePart`, the d32 reached at each trial level and the knee dose;
+- ``uncertainty``: :class:`UncertaintyPart`, the Monte Carlo, its sensitivity and histogram;
+- ``adsorption``: :class:`sizing.planning.kinetics.AdsorptionCheck` (diffusivity and residence time given).
 
-and the ``render_*`` functions draw them in the report (report helpers imported lazily).
+Their JSON (result.json) and HTML (report.html) forms are in :mod:`sizing.outputs`.
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
-
-def _input_name(path: str) -> str:
-    """Name a sampled input for charts and tables (the scale-up band is not a case field)."""
-    return "plant d32 (scale-up band)" if path == "scaleup.plant_d32" else path
-
-
-def _num(x):
-    from ..model import json_number
-
-    return json_number(x)
+from . import achievable, kinetics, scaleup, uncertainty
+from .kinetics import AdsorptionCheck
+from .scaleup import ScaleupResult
+from .uncertainty import MonteCarlo
 
 
-def plan_monte_carlo(case):
+@dataclass(frozen=True)
+class AchievableLevel:
+    """The drop size one trial level reaches.
+
+    Attributes
+    ----------
+    level : multiple of the recommended charge [-]; kg_product : the level's charge [kg]
+    d32 : Sauter mean diameter reached [m] (nan when no dose stabilises new interface)
+    limited_by : 'surfactant' or 'homogeniser'
+    """
+
+    level: float
+    kg_product: float
+    d32: float
+    limited_by: str
+
+
+@dataclass(frozen=True)
+class AchievablePart:
+    """Surfactant-limited drop size over the trial levels and the knee of the d32-dose curve.
+
+    Attributes
+    ----------
+    knee_dose_mol : dose beyond which more surfactant no longer makes smaller drops [mol]
+        (nan when not feasible); knee_dose_kg_product : the same as product [kg]
+    homogeniser_d32 : the homogeniser's own limit, the case's d32 [m]
+    min_coverage : coverage needed to stabilise new interface [-]
+    levels : tuple of :class:`AchievableLevel`, one per trial level
+    curve : ``{dose_mol [mol], d32_m [m], limited_by, knee_dose_mol [mol], knee_d32_m [m],
+        bulk_loss_mol [mol]}`` arrays for the chart (:func:`sizing.planning.achievable.achievable_curve`)
+    feasible : the needed coverage is reachable below the CMC
+    """
+
+    knee_dose_mol: float
+    knee_dose_kg_product: float
+    homogeniser_d32: float
+    min_coverage: float
+    levels: tuple
+    curve: dict
+    feasible: bool
+
+
+@dataclass(frozen=True)
+class UncertaintyPart:
+    """The Monte Carlo behind the charge.
+
+    Attributes
+    ----------
+    monte_carlo : :class:`sizing.planning.uncertainty.MonteCarlo` (draws, doses [kg], percentile [%])
+    charge_kg_product : the recommended charge it is tested against [kg of product]
+    sensitivity : tuple of one-at-a-time swings (:func:`sizing.planning.uncertainty.sensitivity`;
+        doses [kg], inputs [SI])
+    histogram : ``{edges_kg [kg], counts [-], p10, p50, p90 [kg]}`` of the needed dose
+    """
+
+    monte_carlo: MonteCarlo
+    charge_kg_product: float
+    sensitivity: tuple
+    histogram: dict
+
+
+def plan_monte_carlo(case) -> MonteCarlo | None:
     """Return the Monte Carlo of a case for its plan, or None when nothing is uncertain."""
-    from .uncertainty import NOT_IN_DOSE, _plant_d32_spread, monte_carlo
-
-    moving = [p for p in case.spreads() if p not in NOT_IN_DOSE]
-    if not moving and (case.uncertainty is None or _plant_d32_spread(case) is None):
+    moving = [p for p in case.spreads() if p not in uncertainty.NOT_IN_DOSE]
+    if not moving and (case.uncertainty is None or uncertainty.plant_d32_spread(case) is None):
         return None
-    return monte_carlo(case)
+    return uncertainty.monte_carlo(case)
 
 
-def attach(plan, mc=None) -> None:
-    """Fill ``plan.extras`` with the scale-up, achievable, uncertainty and adsorption parts."""
-    from . import achievable, kinetics, scaleup, uncertainty
+def scaleup_part(case) -> ScaleupResult | None:
+    """Return the plant drop size of a case with ``[scaleup]``, else None."""
+    return scaleup.scaleup_case(case) if case.scaleup is not None else None
 
-    case, inputs, ex = plan.case, plan.inputs, plan.extras
-    if case.scaleup is not None:
-        r = scaleup.scaleup_case(case)
-        ex["scaleup"] = {"json": {
-            "method": r.method, "lab_d32_m": r.lab_d32, "plant_d32_m": r.plant_d32,
-            "plant_d32_band_m": list(r.band), "band_method": r.band_method, "rule": r.details.get("rule"),
-            "variable": r.details.get("variable"), "exponent": r.exponent,
-            "exponent_is_default": r.exponent_is_default, "exponent_source": r.exponent_source,
-            "warnings": list(r.warnings)}, "result": r}
-    # achievable d32 at each trial level and the curve with the knee
-    mol = np.array([t.mol for t in plan.trial], dtype=float)
+
+def achievable_part(inputs, trial) -> AchievablePart:
+    """Return the achievable d32 at each trial level (one vectorised call) and the d32-dose curve."""
+    mol = np.array([t.mol for t in trial], dtype=float)
     a = achievable.achievable(inputs, mol)
     curve = achievable.achievable_curve(inputs)
     feasible = bool(np.all(a.feasible))
-    levels = [{"achievable_d32_m": _num(d) if feasible else None, "limited_by": str(lim)}
-              for d, lim in zip(a.d32, a.limited_by)]
-    ex["trial_levels"] = levels
+    levels = tuple(AchievableLevel(level=t.level, kg_product=t.kg_product,
+                                   d32=float(d) if feasible else math.nan, limited_by=str(lim))
+                   for t, d, lim in zip(trial, a.d32, a.limited_by))
     knee = float(a.knee_dose_mol[0]) if feasible else math.nan
     m, af = float(inputs.molar_mass), float(inputs.active_fraction)
-    ex["achievable"] = {"json": {
-        "knee_dose_mol": _num(knee), "knee_dose_kg_product": _num(knee * m / af),
-        "homogeniser_d32_m": _num(np.asarray(inputs.d32)), "min_coverage": _num(a.min_coverage[0]),
-        "levels": [dict(level=t.level, kg_product=t.kg_product, **lv) for t, lv in zip(plan.trial, levels)],
-    }, "curve": curve, "feasible": feasible}
-    if mc is not None:
-        block = uncertainty.uncertainty_json(case, mc, charge_kg_product=plan.recommendation.kg_product_per_batch)
-        ex["uncertainty"] = {"json": block, "histogram": uncertainty.histogram(mc)}
-    check = kinetics.adsorption_check(case, plan.solution) if plan.feasible else None
-    if check is not None:
-        ex["adsorption"] = {"json": check}
+    return AchievablePart(knee_dose_mol=knee, knee_dose_kg_product=knee * m / af,
+                          homogeniser_d32=float(np.asarray(inputs.d32)), min_coverage=float(a.min_coverage[0]),
+                          levels=levels, curve=curve, feasible=feasible)
 
 
-# ---------------------------------------------------------------------------------------------
-# report sections (each returns '' when its part is absent)
+def uncertainty_part(case, mc: MonteCarlo, charge_kg_product: float) -> UncertaintyPart:
+    """Return the uncertainty part: the Monte Carlo, the sensitivity of the dose, a histogram."""
+    return UncertaintyPart(monte_carlo=mc, charge_kg_product=float(charge_kg_product),
+                           sensitivity=tuple(uncertainty.sensitivity(case)),
+                           histogram=uncertainty.histogram(mc))
 
 
-def render_scaleup(plan) -> str:
-    from ..outputs.report import esc, q, section, table
-
-    part = plan.extras.get("scaleup")
-    if not part:
-        return ""
-    j = part["json"]
-    lo, hi = j["plant_d32_band_m"]
-    rows = [("lab d32 (the case's [drops])", q(j["lab_d32_m"], "um", scale=1e6)),
-            ("PLANT d32 used for the dose", q(j["plant_d32_m"], "um", scale=1e6)),
-            ("plant d32 band", f"{q(lo, 'um', scale=1e6)} to {q(hi, 'um', scale=1e6)}"),
-            ("band", j["band_method"]), ("method", j["method"] + (f", rule {j['rule']}" if j["rule"] else "")),
-            ("exponent", f"{j['exponent']:.4g}" + (" (DEFAULT, not fitted)" if j["exponent_is_default"] else "")),
-            ("exponent source", j["exponent_source"])]
-    body = table(rows, numeric_cols=())
-    body += "".join(f'<p class="warn">{esc(w)}</p>' for w in j["warnings"])
-    body += ("<p>The dose, the charge and the trial levels use the plant d32; the lab d32 is shown for "
-             "comparison. Confirm the plant drop size on the first trial batch.</p>")
-    return section("scaleup", "Scale-up: plant drop size", body)
-
-
-def render_achievable(plan) -> str:
-    from ..outputs.report import chart, esc, q, section, table
-
-    part = plan.extras.get("achievable")
-    if not part or not part["feasible"]:
-        return ""
-    j, cv = part["json"], part["curve"]
-    m, af = float(plan.inputs.molar_mass), float(plan.inputs.active_fraction)
-    to_kg = m / af
-
-    def draw(fig):
-        ax = fig.add_subplot()
-        d = np.asarray(cv["d32_m"], dtype=float)
-        ok = np.isfinite(d)
-        ax.plot(np.asarray(cv["dose_mol"])[ok] * to_kg, d[ok] * 1e6, color="#1f5fa8", label="d32 reached")
-        ax.axvline(cv["knee_dose_mol"] * to_kg, color="#c0392b", ls="--", lw=1,
-                   label=f"knee {q(cv['knee_dose_mol'] * to_kg, 'kg')}")
-        ax.plot([t.kg_product for t in plan.trial],
-                [lv["achievable_d32_m"] * 1e6 if lv["achievable_d32_m"] else np.nan for lv in j["levels"]],
-                "o", color="#555", ms=4, label="trial levels")
-        ax.set_yscale("log")
-        ax.set_xlabel("product charged per batch [kg]")
-        ax.set_ylabel("d32 reached [um]")
-        ax.legend(fontsize=7)
-
-    rows = [(f"{lv['level']:g} x", q(lv["kg_product"], "kg"), q(lv["achievable_d32_m"], "um", scale=1e6),
-             lv["limited_by"]) for lv in j["levels"]]
-    body = chart(draw, "Surfactant-limited drop size: the d32 a charge can reach [um] against the product "
-                       "charged [kg]; right of the knee more surfactant no longer makes smaller drops.")
-    body += table(rows, ("level", "product [kg/batch]", "d32 reached [um]", "limited by"), numeric_cols=(1, 2))
-    body += (f"<p>Knee dose {esc(q(j['knee_dose_kg_product'], 'kg product'))}: the homogeniser's own d32 "
-             f"{esc(q(j['homogeniser_d32_m'], 'um', scale=1e6))} needs at least this much at coverage "
-             f"{esc(q(j['min_coverage'], '(-)'))}. Below it the surfactant, not the homogeniser, limits "
-             "the drop size (equilibrium estimate).</p>")
-    return section("achievable", "Drop size a charge can reach", body)
-
-
-def render_uncertainty(plan) -> str:
-    from ..outputs.report import chart, esc, q, section, table
-
-    part = plan.extras.get("uncertainty")
-    if not part:
-        return ""
-    j, h = part["json"], part["histogram"]
-    d = j["dose_kg_product"]
-    charge = plan.recommendation.kg_product_per_batch
-
-    def draw_hist(fig):
-        ax = fig.add_subplot()
-        e = np.asarray(h["edges_kg"])
-        ax.stairs(h["counts"], e, fill=True, color="#9bbbe0", label="draws")
-        for key, ls in (("p10", ":"), ("p50", "-"), ("p90", "--")):
-            if d[key] is not None:
-                ax.axvline(d[key], color="#1f5fa8", ls=ls, lw=1, label=f"{key.upper()} {q(d[key], 'kg')}")
-        ax.axvline(charge, color="#c0392b", lw=1.5, label=f"charge {q(charge, 'kg')}")
-        ax.set_xlabel("product needed per batch [kg]")
-        ax.set_ylabel("draws [-]")
-        ax.legend(fontsize=7)
-
-    sens = j.get("sensitivity") or []
-
-    def draw_tornado(fig):
-        ax = fig.add_subplot()
-        base = j["deterministic_kg_product"] or 0.0
-        names = [_input_name(s["path"]) for s in sens][::-1]
-        for i, s in enumerate(sens[::-1]):
-            lo, hi = s["dose_low_kg"], s["dose_high_kg"]
-            if lo is None or hi is None:
-                continue
-            ax.barh(i, hi - base, left=base, color="#c0392b", alpha=0.7)
-            ax.barh(i, lo - base, left=base, color="#1f5fa8", alpha=0.7)
-        ax.set_yticks(range(len(names)), names, fontsize=7)
-        ax.axvline(base, color="#333", lw=1)
-        ax.set_xlabel("product needed per batch [kg] (blue: input at its low end, red: high end)")
-
-    pct = j["percentile"]
-    rows = [("samples", f"{j['samples']}"), ("P10", q(d["p10"], "kg product")), ("P50", q(d["p50"], "kg product")),
-            ("P90", q(d["p90"], "kg product")),
-            (f"P{pct:g} (covered by the charge)", q(j["dose_kg_product_at_percentile"], "kg product")),
-            ("deterministic dose", q(j["deterministic_kg_product"], "kg product")),
-            ("recommended charge", q(charge, "kg product")),
-            ("probability the charge meets the target", q(100 * j["probability_target_met"], "%", 4)),
-            ("draws whose target is above the CMC", q(100 * j["infeasible_fraction"], "%", 3))]
-    body = (f"<p><b>The recommended charge covers the {pct:g}th percentile</b> of the dose needed over the "
-            f"spreads given in the case, plus the margin ({esc(j['sampling'])}).</p>")
-    body += table(rows, numeric_cols=(1,))
-    body += chart(draw_hist, "Monte Carlo: product needed per batch [kg] over the input spreads, with "
-                             "P10, P50, P90 and the recommended charge.")
-    if sens:
-        body += chart(draw_tornado, "Sensitivity (tornado): the dose with each input at its P10 and P90 "
-                                    "(low and high for a uniform spread), the others at their values.")
-        body += table([(_input_name(s["path"]), q(s["dose_low_kg"], "kg"), q(s["dose_high_kg"], "kg"),
-                        q(s["elasticity"], "(-)")) for s in sens],
-                      ("input", "dose at low [kg]", "dose at high [kg]", "elasticity d ln dose / d ln x"),
-                      numeric_cols=(1, 2, 3))
-    return section("uncertainty", "How sure: uncertainty and sensitivity", body)
-
-
-def render_adsorption(plan) -> str:
-    from ..outputs.report import esc, q, section, table
-
-    part = plan.extras.get("adsorption")
-    if not part:
-        return ""
-    j = part["json"]
-    rows = [("adsorption depth h = Gamma/c", q(j["depth_m"], "um", scale=1e6)),
-            ("diffusion time tau_D = h**2/D", q(j["diffusion_time_s"], "s")),
-            ("residence time in the homogeniser", q(j["residence_time_s"], "s")),
-            ("tau_D / residence time", q(j["ratio"], "(-)") + f" (flag above {j['threshold']:g})")]
-    cls = "warn" if j["optimistic"] else "muted"
-    body = f'<p class="{cls}">{esc(j["message"])}</p>' + table(rows)
-    return section("adsorption", "Adsorption speed", body)
-
-
-SECTIONS = (render_scaleup, render_achievable, render_uncertainty, render_adsorption)
+def adsorption_part(case, solution) -> AdsorptionCheck | None:
+    """Return the adsorption-speed check at the target state, or None without its data."""
+    return kinetics.adsorption_check(case, solution)

@@ -14,43 +14,25 @@ built on the dose that just reaches the CMC ceiling and the plan says so.
 Every array computation is one call of :func:`sizing.model.solve`: the trial levels, the
 dose-coverage curve and the d32 what-if are each a single vectorised solve.
 
-:class:`Plan` is frozen but carries a plain dict ``extras``, so later parts (uncertainty,
-scale-up) can attach their results without changing this module.
+:class:`Plan` is frozen; its optional parts (scale-up, achievable drop size, uncertainty,
+adsorption speed) are typed frozen objects built in :mod:`sizing.planning.parts`, ``None`` where
+absent.  The JSON, CSV and HTML forms of a plan live in :mod:`sizing.outputs`.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 
 from .. import model
-
-CAUTIONS = (
-    "This is an equilibrium estimate from a mass balance; confirm the dose by a plant trial before "
-    "adopting it.",
-    "Handle surfactants per their safety data sheet (SDS), with suitable protective equipment "
-    "(eye protection, gloves) and the site's handling procedures.",
-    "Food, cosmetic and pharmaceutical products have legal limits on emulsifier levels; check the "
-    "charge against the regulations that apply to the product and market.",
-    "Defer to local codes, site procedures and qualified practice; a plant trial needs the usual "
-    "approvals (management of change, hazard review).",
-)
-
-MODEL_ASSUMPTIONS = (
-    "Equilibrium: adsorption, partitioning and micellisation have finished (no kinetic losses).",
-    "Pseudo-phase model: the free monomer never exceeds the CMC; surfactant beyond it forms "
-    "micelles in the continuous phase.",
-    "The interfacial area is the shape factor times 6 V_d / d32 (the Sauter mean sets the area).",
-    "One surface-active species; other ingredients neither adsorb nor bind the surfactant.",
-    "The partition coefficient of the monomer is constant below the CMC.",
-    "The isotherm constants, the CMC and the partition coefficient hold at the batch temperature as "
-    "given (the temperature enters only through R T in the equation of state): measure them near "
-    "the process temperature.",
-    "Nothing is lost to vessel walls, foam or air (in an emulsion), or to solids and other ingredients "
-    "that adsorb surfactant.",
-)
+from ..texts import CAUTIONS, FIELD_LABELS, MODEL_ASSUMPTIONS, unreachable_options
+from . import parts
+from .kinetics import AdsorptionCheck
+from .parts import AchievablePart, UncertaintyPart
+from .scaleup import ScaleupResult
+from .uncertainty import uncertainty_notes
 
 AUTO_INCREMENT_NOTE = "automatic: a 1-2-5 step near 1 % of the charge (no [recommendation] increment)"
 
@@ -199,27 +181,32 @@ class Curves:
 
 @dataclass(frozen=True)
 class Plan:
-    """A planned case: the solve, the recommendation, the trial matrix and the chart data.
+    """A planned case: the solve, the recommendation, the trial matrix, the chart data and its parts.
 
     Attributes
     ----------
     case : the validated case; inputs : :class:`sizing.model.Inputs`
     solution : the target solve (:class:`sizing.model.Solution`)
-    solve_json : :func:`sizing.model.solution_json` of it (the solve contract)
     feasible : the target is reachable at equilibrium
     target_coverage : theta the target asks for [-]
     recommendation : :class:`Recommendation`; trial : tuple of :class:`TrialLevel`
     curves : :class:`Curves`; assumptions : list of dicts {path, label, value, source}
     model_assumptions, cautions : tuples of text; options : what to do when unreachable
     case_notes : the case file's header comment (its story and sources), '' when unknown
-    extras : dict for later parts (e.g. 'uncertainty'); JSON-ready values are merged into
-        result.json under their own keys
+    source : the case file's path as given ('' for none)
+    scaleup : plant drop size of a case with ``[scaleup]`` (:class:`sizing.planning.scaleup.ScaleupResult`),
+        None without that section
+    achievable : drop size reached at the charge and each trial level, and the knee dose
+        (:class:`sizing.planning.parts.AchievablePart`)
+    uncertainty : the Monte Carlo behind the charge, its sensitivity and histogram
+        (:class:`sizing.planning.parts.UncertaintyPart`), None when nothing carries a spread
+    adsorption : the adsorption-speed check (:class:`sizing.planning.kinetics.AdsorptionCheck`),
+        None without a diffusivity and a residence time (or when the target is unreachable)
     """
 
     case: object
     inputs: model.Inputs
     solution: model.Solution
-    solve_json: dict
     feasible: bool
     target_coverage: float
     recommendation: Recommendation
@@ -231,11 +218,10 @@ class Plan:
     options: tuple
     case_notes: str = ""
     source: str = ""
-    extras: dict = field(default_factory=dict)
-
-    def to_json(self) -> dict:
-        """Return result.json: the solve contract plus recommendation, trial, cautions, ..."""
-        return plan_json(self)
+    scaleup: ScaleupResult | None = None
+    achievable: AchievablePart | None = None
+    uncertainty: UncertaintyPart | None = None
+    adsorption: AdsorptionCheck | None = None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -287,25 +273,6 @@ def case_notes(path) -> str:
     return "\n".join(out).strip()
 
 
-_LABELS = {
-    "batch.volume": "batch volume", "batch.mass": "batch mass",
-    "batch.dispersed_fraction": "dispersed fraction", "batch.temperature": "temperature",
-    "batch.continuous_density": "continuous-phase density", "batch.dispersed_density": "dispersed-phase density",
-    "drops.d32": "Sauter mean diameter d32", "drops.median": "median diameter", "drops.gsd": "geometric SD",
-    "drops.characteristic_size": "RRSB characteristic size", "drops.spread": "RRSB spread",
-    "drops.shape_factor": "shape factor", "surfactant.molar_mass": "molar mass",
-    "surfactant.active_fraction": "active fraction of the product", "surfactant.cmc": "CMC",
-    "surfactant.max_surface_excess": "maximum surface excess",
-    "surfactant.area_per_molecule": "area per molecule",
-    "surfactant.adsorption_constant": "adsorption constant K", "surfactant.interaction": "Frumkin beta",
-    "surfactant.gibbs_prefactor": "Gibbs prefactor n", "surfactant.partition_coefficient": "partition coefficient",
-    "surfactant.clean_tension": "clean-interface tension", "surfactant.price_per_kg": "price per kg of product",
-    "surfactant.diffusivity": "monomer diffusivity", "target.coverage": "target coverage",
-    "target.tension": "target tension", "target.free_concentration": "target free concentration",
-    "target.margin": "safety margin", "recommendation.increment": "charge increment",
-}
-
-
 def _raw_has(case, path: str) -> bool:
     raw = getattr(case, "_raw", None) or {}
     section, _, key = path.partition(".")
@@ -341,7 +308,7 @@ def assumptions(case, inputs: model.Inputs) -> list[dict]:
         if v.spread is not None:
             text += (f" (log-normal, rel. SD {v.spread[1]:g})" if v.spread[0] == "lognormal"
                      else " (uniform spread)")
-        out.append({"path": path, "label": _LABELS.get(path, path), "value": text, "source": src})
+        out.append({"path": path, "label": FIELD_LABELS.get(path, path), "value": text, "source": src})
     s = case.surfactant
     out.append({"path": "surfactant.isotherm", "label": "isotherm", "value": inputs.model,
                 "source": "case file" if _raw_has(case, "surfactant.isotherm") else
@@ -357,15 +324,7 @@ def assumptions(case, inputs: model.Inputs) -> list[dict]:
 
 def options_when_unreachable(plan_case, inputs: model.Inputs, max_coverage: float) -> tuple[str, ...]:
     """Return the options an engineer has when the target needs more than the CMC allows."""
-    return (
-        f"Accept a lower coverage: at equilibrium the CMC caps it at {max_coverage:.3g} "
-        "(set target.coverage below that and re-plan).",
-        "Choose another surfactant: a lower CMC relative to its adsorption constant (larger K x CMC) "
-        "reaches a higher coverage before micelles form.",
-        "Make larger drops or bubbles (less area): this lowers the dose but does not raise the "
-        "coverage ceiling, which is set by K x CMC.",
-        "Use a co-surfactant or salt to lower the CMC or raise adsorption (test in the lab first).",
-    )
+    return unreachable_options(max_coverage)
 
 
 def _level_rows(case, sol: model.Solution, levels, charge_kg: float, increment: float) -> tuple:
@@ -407,7 +366,6 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     """
     inputs = model.case_inputs(case)
     target_sol = model.solve(inputs)
-    solve_json = model.solution_json(target_sol, case)
     feasible = bool(np.all(target_sol.feasible))
     _, target_theta = model.target_concentration(inputs)
     cmc = _f(inputs.cmc)
@@ -418,10 +376,8 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     else:
         ceiling_kg = math.nan
     base_kg = _f(target_sol.kg_product) if feasible else ceiling_kg
-    # with spreads the charge covers the chosen percentile of the Monte Carlo (sizing.whatif)
-    from . import parts as whatif
-
-    mc = whatif.plan_monte_carlo(case) if feasible else None
+    # with spreads the charge covers the chosen percentile of the Monte Carlo
+    mc = parts.plan_monte_carlo(case) if feasible else None
     if mc is not None and math.isfinite(float(mc.quantile_kg_product(mc.percentile))):
         base_kg = float(mc.quantile_kg_product(mc.percentile))
     margin = _f(inputs.margin)
@@ -475,56 +431,24 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
         d32_charge_kg_product=np.asarray(charge_for_dose(d32_dose, margin, increment)),
     )
     opts = () if feasible else options_when_unreachable(case, inputs, _f(target_sol.max_coverage))
-    plan = Plan(
-        case=case, inputs=inputs, solution=target_sol, solve_json=solve_json, feasible=feasible,
+    return Plan(
+        case=case, inputs=inputs, solution=target_sol, feasible=feasible,
         target_coverage=_f(target_theta), recommendation=rec, trial=trial, curves=curves,
         assumptions=assumptions(case, inputs), model_assumptions=MODEL_ASSUMPTIONS, cautions=CAUTIONS,
         options=opts, case_notes=case_notes(source), source=str(source) if source is not None else "",
+        scaleup=parts.scaleup_part(case), achievable=parts.achievable_part(inputs, trial),
+        uncertainty=parts.uncertainty_part(case, mc, rec.kg_product_per_batch) if mc is not None else None,
+        adsorption=parts.adsorption_part(case, target_sol) if feasible else None,
     )
-    whatif.attach(plan, mc)
-    return plan
 
 
 # ---------------------------------------------------------------------------------------------
-# result.json and trial_plan.csv
-
-
-_num = model.json_number
-
-
-def recommendation_json(rec: Recommendation) -> dict:
-    """Return the ``recommendation`` object of result.json (SI, kg, %; null where unknown)."""
-    return {
-        "kg_product_per_batch": _num(rec.kg_product_per_batch),
-        "kg_active_per_batch": _num(rec.kg_active_per_batch),
-        "mol_per_batch": _num(rec.mol_per_batch),
-        "wt_percent": _num(rec.wt_percent), "wt_percent_active": _num(rec.wt_percent_active),
-        "g_per_l": _num(rec.g_per_l), "percent_on_dispersed": _num(rec.percent_on_dispersed),
-        "mg_per_m2": _num(rec.mg_per_m2), "cost_per_batch": _num(rec.cost_per_batch),
-        "currency": rec.currency, "margin": rec.margin, "increment_kg": rec.increment_kg,
-        "increment_source": rec.increment_source, "basis": rec.basis, "reaches_target": rec.reaches_target,
-        "base_kg_product": _num(rec.base_kg_product),
-        "coverage_at_charge": _num(rec.coverage_at_charge),
-        "free_concentration_at_charge_mol_m3": _num(rec.free_concentration_at_charge),
-        "tension_at_charge_N_m": _num(rec.tension_at_charge),
-        "micelle_share_at_charge": _num(rec.micelle_share_at_charge),
-        "split_mol_at_charge": {k: _num(v) for k, v in rec.split_mol_at_charge.items()},
-    }
-
-
-def trial_json(trial) -> list[dict]:
-    """Return the ``trial`` list of result.json, one object per level."""
-    return [{
-        "level": t.level, "kg_product": _num(t.kg_product), "kg_active": _num(t.kg_active),
-        "mol": _num(t.mol), "wt_percent": _num(t.wt_percent), "coverage": _num(t.coverage),
-        "free_concentration_mol_m3": _num(t.free_concentration), "tension_N_m": _num(t.tension),
-        "micelle_share": _num(t.micelle_share), "batches": t.batches, "measure": list(t.measure),
-    } for t in trial]
+# warnings
 
 
 def plan_warnings(plan: Plan) -> list[str]:
     """Return the engine's warnings for the target state, the charge and the trial levels."""
-    out = list(plan.solve_json.get("warnings", []))
+    out = model.solution_warnings(plan.solution)
     tensions = [plan.recommendation.tension_at_charge] + [t.tension for t in plan.trial]
     inputs = model.case_inputs(plan.case)
     for w in model.tension_warnings(inputs, np.array(tensions, dtype=float), "the charge or a trial level"):
@@ -542,12 +466,12 @@ def plan_warnings(plan: Plan) -> list[str]:
         out.append(f"{100 * share:.3g} % of the recommended charge forms micelles: the target sits close to the "
                    "CMC ceiling, and surfactant above the ceiling adds micelles (foaming, depletion "
                    "flocculation, cost) rather than coverage")
-    unc = plan.extras.get("uncertainty", {}).get("json") if isinstance(plan.extras.get("uncertainty"), dict) else None
-    if unc:
-        out += [n for n in unc.get("notes", []) if n not in out]
-    if unc and (unc.get("infeasible_fraction") or 0) > 0:
-        share = 100 * unc["infeasible_fraction"]
-        pct = unc.get("percentile", 90.0)
+    unc = plan.uncertainty
+    if unc is not None:
+        out += [n for n in uncertainty_notes(unc.monte_carlo, unc.sensitivity) if n not in out]
+    if unc is not None and unc.monte_carlo.infeasible_fraction > 0:
+        share = 100 * unc.monte_carlo.infeasible_fraction
+        pct = unc.monte_carlo.percentile
         if share > 100 - pct:
             out.append(f"{share:.3g} % of the Monte Carlo draws need more than the CMC allows, more than the "
                        f"{100 - pct:.3g} % the P{pct:g} recommendation may leave out: the charge falls back to "
@@ -556,53 +480,3 @@ def plan_warnings(plan: Plan) -> list[str]:
         else:
             out.append(f"{share:.3g} % of the Monte Carlo draws cannot reach the target below the CMC")
     return out
-
-
-def plan_json(plan: Plan) -> dict:
-    """Return result.json: :func:`sizing.model.solution_json` keys plus the plan's own keys."""
-    out = dict(plan.solve_json)
-    out["recommendation"] = recommendation_json(plan.recommendation)
-    out["trial"] = trial_json(plan.trial)
-    for row, extra in zip(out["trial"], plan.extras.get("trial_levels", ())):
-        row.update(extra)  # achievable d32 per level (sizing.whatif)
-    out["target_coverage"] = _num(plan.target_coverage)
-    out["ceiling_kg_product"] = _num(plan.curves.ceiling_kg_product)
-    out["assumptions"] = [dict(a) for a in plan.assumptions] + [
-        {"path": None, "label": "model", "value": text, "source": "model"} for text in plan.model_assumptions]
-    out["cautions"] = list(plan.cautions)
-    out["warnings"] = plan_warnings(plan)
-    if not plan.feasible:
-        out["options"] = list(plan.options)
-    for key, value in plan.extras.items():
-        if isinstance(value, dict) and "json" in value:
-            out[key] = value["json"]
-        elif isinstance(value, (dict, list, str, int, float, bool)) or value is None:
-            out[key] = value
-    return out
-
-
-TRIAL_COLUMNS = ("level [x charge]", "product [kg/batch]", "active [kg/batch]", "active [mol/batch]",
-                 "product [wt% of batch]", "coverage [-]", "free monomer [mM]", "tension [mN/m]",
-                 "micelle share [%]", "batches [-]", "achievable d32 [um]", "drop size limited by", "measure")
-
-
-def trial_csv(plan: Plan) -> str:
-    """Return trial_plan.csv: one row a level, units in the header brackets."""
-    import csv
-    import io
-
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow(TRIAL_COLUMNS)
-
-    def g(x, scale=1.0):
-        return "" if not math.isfinite(x) else f"{x * scale:.6g}"
-
-    extra = list(plan.extras.get("trial_levels", ())) or [{}] * len(plan.trial)
-    for t, lv in zip(plan.trial, extra):
-        d32 = lv.get("achievable_d32_m")
-        w.writerow([f"{t.level:g}", g(t.kg_product), g(t.kg_active), g(t.mol), g(t.wt_percent),
-                    g(t.coverage), g(t.free_concentration), g(t.tension, 1e3), g(t.micelle_share, 100),
-                    t.batches, g(d32, 1e6) if d32 is not None else "", lv.get("limited_by", ""),
-                    "; ".join(t.measure)])
-    return buf.getvalue()

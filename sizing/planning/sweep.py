@@ -9,6 +9,7 @@ element of the arrays passed to :func:`sizing.model.solve`, so the sweep is a si
 
 from __future__ import annotations
 
+import difflib
 import re
 from dataclasses import dataclass
 
@@ -65,7 +66,6 @@ def _dimension(case, path: str) -> str:
         other = twins[path]
         raise InputError(f"--vary {path}: this case gives the batch size as {other.split('.')[1]} "
                          f"({other}); vary {other.split('.')[1]} instead, or give the case a {path.split('.')[1]}")
-    import difflib
 
     close = difflib.get_close_matches(path, known + list(ALIASES), n=1, cutoff=0.6)
     if close:
@@ -140,8 +140,6 @@ def sweep(case, specs: list[str]):
     reachable), the charge (dose x (1 + margin), rounded up to the case's increment or the
     automatic step), the equilibrium state for the target, the area and the CMC ceiling.
     """
-    import pandas as pd
-
     if not 1 <= len(specs) <= 2:
         raise InputError(f"--vary: expected one or two variations, got {len(specs)}")
     vs = [parse_vary(s, case) for s in specs]
@@ -185,4 +183,6 @@ def sweep(case, specs: list[str]):
     })
     if "drops.d32" not in flat:
         data["d32 [um]"] = col(sol.d32) * 1e6
+    import pandas as pd  # deferred: pandas is heavy and only the table needs it
+
     return pd.DataFrame(data)

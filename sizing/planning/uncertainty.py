@@ -30,7 +30,10 @@ from pathlib import Path
 import numpy as np
 from scipy.stats import norm
 
+from ..case import case_with, load_case
 from ..errors import InputError
+from ..model import case_inputs, solve
+from .scaleup import scaleup_case
 
 Z975 = float(norm.ppf(0.975))
 Z90 = float(norm.ppf(0.9))
@@ -94,11 +97,10 @@ def spread_quantiles(value, q) -> np.ndarray:
     return lo + q * (hi - lo)
 
 
-def _plant_d32_spread(case):
+def plant_d32_spread(case):
     """Return (median, sigma_ln) of the plant d32 from the scale-up band, or None."""
     if getattr(case, "scaleup", None) is None:
         return None
-    from .scaleup import scaleup_case
 
     r = scaleup_case(case)
     lo, hi = r.band
@@ -190,8 +192,6 @@ def monte_carlo(case, samples: int | None = None, seed: int | None = None) -> Mo
     >>> mc.samples, mc.dose_kg_product.shape
     (2000, (2000,))
     """
-    from ..model import case_inputs, solve
-
     u = case.uncertainty
     n = int(samples if samples is not None else (u.samples if u else 100_000))
     seed = int(seed if seed is not None else (u.seed if u else 20261201))
@@ -200,7 +200,7 @@ def monte_carlo(case, samples: int | None = None, seed: int | None = None) -> Mo
         raise InputError(f"uncertainty.samples: expected at least 1, got {n}")
     spreads = case.spreads()
     _check_used(case, spreads)
-    plant = _plant_d32_spread(case)
+    plant = plant_d32_spread(case)
     notes = tuple(f"{path}: carries a spread but does not change the dose ({NOT_IN_DOSE[path]}); "
                   "it is left out of the Monte Carlo" for path in sorted(spreads) if path in NOT_IN_DOSE)
     spreads = {p: v for p, v in spreads.items() if p not in NOT_IN_DOSE}
@@ -247,8 +247,6 @@ def sensitivity(case) -> list[dict]:
     enters only the tension) is kept with ``moves_dose = False``; :func:`uncertainty_json`
     turns it into a note rather than an error, so one uncertainty spec serves many cases.
     """
-    from ..model import case_inputs, solve
-
     spreads = {p: v for p, v in case.spreads().items() if p not in NOT_IN_DOSE}
     _check_used(case, spreads)
     base = case.values()
@@ -259,7 +257,7 @@ def sensitivity(case) -> list[dict]:
         else:
             lo, hi = (float(t) for t in spread_quantiles(v, [0.1, 0.9]))
         entries.append((path, base.get(path, v.si), lo, hi))
-    plant = _plant_d32_spread(case)
+    plant = plant_d32_spread(case)
     if plant is not None:
         med, s = plant
         entries.append(("scaleup.plant_d32", med, med * math.exp(-Z90 * s), med * math.exp(Z90 * s)))
@@ -298,8 +296,6 @@ def sensitivity(case) -> list[dict]:
 
 def _other_output_changes(case, path, lo, hi) -> bool:
     """Return True if wt%, cost or the tension move when ``path`` goes from lo to hi."""
-    from ..model import case_inputs, solve
-
     sol = solve(case_inputs(case, {path: np.array([lo, hi])}))
     for arr in (sol.wt_percent, sol.cost, sol.percent_on_dispersed):
         a = np.broadcast_to(np.asarray(arr, dtype=float), (2,))
@@ -330,56 +326,13 @@ def covering_charge(case, mc: MonteCarlo) -> float:
     return round_up(q * (1 + case.target.margin.si), inc)
 
 
-def uncertainty_json(case, mc: MonteCarlo | None = None, charge_kg_product: float | None = None,
-                     with_sensitivity: bool = True) -> dict:
-    """Return the ``uncertainty`` block of result.json.
-
-    ``charge_kg_product`` is the recommended charge to test (default: :func:`covering_charge`).
-    Keys: ``samples``, ``dose_kg_product`` {``p10``, ``p50``, ``p90``}, ``probability_target_met``,
-    and ``seed``, ``percentile``, ``covering_kg_product``, ``charge_kg_product``,
-    ``deterministic_kg_product``, ``infeasible_fraction``, ``sampling``, ``inputs``, ``sensitivity``.
-    """
-    mc = monte_carlo(case) if mc is None else mc
-    p10, p50, p90, pc = (float(v) for v in mc.quantile_kg_product([10, 50, 90, mc.percentile]))
-    charge = covering_charge(case, mc) if charge_kg_product is None else float(charge_kg_product)
-
-    from ..model import json_number as f
-
-    spreads = case.spreads()
-    inputs = []
-    for path in mc.paths:
-        v = spreads.get(path)
-        if v is None:
-            inputs.append({"path": path, "kind": "lognormal (scale-up band as 95 % range)"})
-        elif v.spread[0] == "lognormal":
-            inputs.append({"path": path, "kind": "lognormal", "value_si": v.si, "rel_sd": v.spread[1]})
-        else:
-            inputs.append({"path": path, "kind": "uniform", "value_si": v.si, "low_si": v.spread[1],
-                           "high_si": v.spread[2]})
-    out = {
-        "samples": mc.samples,
-        "dose_kg_product": {"p10": f(p10), "p50": f(p50), "p90": f(p90)},
-        "probability_target_met": mc.probability_met(charge),
-        "seed": mc.seed,
-        "percentile": mc.percentile,
-        "dose_kg_product_at_percentile": f(pc),
-        "covering_kg_product": f(covering_charge(case, mc)),
-        "charge_kg_product": f(charge),
-        "deterministic_kg_product": f(mc.deterministic_kg_product),
-        "infeasible_fraction": mc.infeasible_fraction,
-        "sampling": "rel_sd: log-normal with mean = value and that coefficient of variation; low/high: uniform",
-        "inputs": inputs,
-    }
+def uncertainty_notes(mc: MonteCarlo, sensitivity_rows=()) -> list[str]:
+    """Return the notes of a Monte Carlo: its own, and each spread that does not move the dose."""
     notes = list(mc.notes)
-    if with_sensitivity:
-        sens = sensitivity(case)
-        out["sensitivity"] = [{k: (f(v) if isinstance(v, float) else v) for k, v in e.items()}
-                              for e in sens]
-        notes += [f"{e['path']}: carries a spread but does not change the dose or any dose output in this "
-                  "case (in this model it enters only the tension or other outputs); its spread has no "
-                  "effect" for e in sens if not e.get("moves_dose", True)]
-    out["notes"] = notes
-    return out
+    notes += [f"{e['path']}: carries a spread but does not change the dose or any dose output in this "
+              "case (in this model it enters only the tension or other outputs); its spread has no "
+              "effect" for e in sensitivity_rows if not e.get("moves_dose", True)]
+    return notes
 
 
 def histogram(mc: MonteCarlo, bins: int = 40) -> dict:
@@ -397,8 +350,6 @@ DEMO_CASE = Path(__file__).resolve().parents[2] / "cases_demo" / "miniemulsion_h
 
 
 def _bench_case():
-    from ..case import case_with, load_case
-
     if DEMO_CASE.exists():  # a source checkout
         return load_case(DEMO_CASE), DEMO_CASE.name
     # an installed package without cases_demo/: the built-in demo with spreads

@@ -3,7 +3,7 @@
 import streamlit as st
 
 from sizing.errors import InputError
-from sizing.physics.distribution import read_size_table
+from sizing.case import read_size_table
 from ui import charts, state
 from ui.charts import UM, num
 from ui.state import field

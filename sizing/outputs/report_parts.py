@@ -1,0 +1,142 @@
+"""Report sections of the plan's optional parts: scale-up, achievable d32, uncertainty, adsorption.
+
+Each renderer takes a :class:`sizing.planning.plan.Plan` and returns an HTML fragment, '' when
+its part is absent (``None``).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .htmlbits import chart, esc, q, section, table
+from .result_json import achievable_part_json, adsorption_json, scaleup_part_json, uncertainty_part_json
+
+
+def _input_name(path: str) -> str:
+    """Name a sampled input for charts and tables (the scale-up band is not a case field)."""
+    return "plant d32 (scale-up band)" if path == "scaleup.plant_d32" else path
+
+
+def render_scaleup(plan) -> str:
+    if plan.scaleup is None:
+        return ""
+    j = scaleup_part_json(plan.scaleup)
+    lo, hi = j["plant_d32_band_m"]
+    rows = [("lab d32 (the case's [drops])", q(j["lab_d32_m"], "um", scale=1e6)),
+            ("PLANT d32 used for the dose", q(j["plant_d32_m"], "um", scale=1e6)),
+            ("plant d32 band", f"{q(lo, 'um', scale=1e6)} to {q(hi, 'um', scale=1e6)}"),
+            ("band", j["band_method"]), ("method", j["method"] + (f", rule {j['rule']}" if j["rule"] else "")),
+            ("exponent", f"{j['exponent']:.4g}" + (" (DEFAULT, not fitted)" if j["exponent_is_default"] else "")),
+            ("exponent source", j["exponent_source"])]
+    body = table(rows, numeric_cols=())
+    body += "".join(f'<p class="warn">{esc(w)}</p>' for w in j["warnings"])
+    body += ("<p>The dose, the charge and the trial levels use the plant d32; the lab d32 is shown for "
+             "comparison. Confirm the plant drop size on the first trial batch.</p>")
+    return section("scaleup", "Scale-up: plant drop size", body)
+
+
+def render_achievable(plan) -> str:
+    part = plan.achievable
+    if part is None or not part.feasible:
+        return ""
+    j, cv = achievable_part_json(part), part.curve
+    m, af = float(plan.inputs.molar_mass), float(plan.inputs.active_fraction)
+    to_kg = m / af
+
+    def draw(fig):
+        ax = fig.add_subplot()
+        d = np.asarray(cv["d32_m"], dtype=float)
+        ok = np.isfinite(d)
+        ax.plot(np.asarray(cv["dose_mol"])[ok] * to_kg, d[ok] * 1e6, color="#1f5fa8", label="d32 reached")
+        ax.axvline(cv["knee_dose_mol"] * to_kg, color="#c0392b", ls="--", lw=1,
+                   label=f"knee {q(cv['knee_dose_mol'] * to_kg, 'kg')}")
+        ax.plot([t.kg_product for t in plan.trial],
+                [lv["achievable_d32_m"] * 1e6 if lv["achievable_d32_m"] else np.nan for lv in j["levels"]],
+                "o", color="#555", ms=4, label="trial levels")
+        ax.set_yscale("log")
+        ax.set_xlabel("product charged per batch [kg]")
+        ax.set_ylabel("d32 reached [um]")
+        ax.legend(fontsize=7)
+
+    rows = [(f"{lv['level']:g} x", q(lv["kg_product"], "kg"), q(lv["achievable_d32_m"], "um", scale=1e6),
+             lv["limited_by"]) for lv in j["levels"]]
+    body = chart(draw, "Surfactant-limited drop size: the d32 a charge can reach [um] against the product "
+                       "charged [kg]; right of the knee more surfactant no longer makes smaller drops.")
+    body += table(rows, ("level", "product [kg/batch]", "d32 reached [um]", "limited by"), numeric_cols=(1, 2))
+    body += (f"<p>Knee dose {esc(q(j['knee_dose_kg_product'], 'kg product'))}: the homogeniser's own d32 "
+             f"{esc(q(j['homogeniser_d32_m'], 'um', scale=1e6))} needs at least this much at coverage "
+             f"{esc(q(j['min_coverage'], '(-)'))}. Below it the surfactant, not the homogeniser, limits "
+             "the drop size (equilibrium estimate).</p>")
+    return section("achievable", "Drop size a charge can reach", body)
+
+
+def render_uncertainty(plan) -> str:
+    part = plan.uncertainty
+    if part is None:
+        return ""
+    j, h = uncertainty_part_json(plan.case, part), part.histogram
+    d = j["dose_kg_product"]
+    charge = plan.recommendation.kg_product_per_batch
+
+    def draw_hist(fig):
+        ax = fig.add_subplot()
+        e = np.asarray(h["edges_kg"])
+        ax.stairs(h["counts"], e, fill=True, color="#9bbbe0", label="draws")
+        for key, ls in (("p10", ":"), ("p50", "-"), ("p90", "--")):
+            if d[key] is not None:
+                ax.axvline(d[key], color="#1f5fa8", ls=ls, lw=1, label=f"{key.upper()} {q(d[key], 'kg')}")
+        ax.axvline(charge, color="#c0392b", lw=1.5, label=f"charge {q(charge, 'kg')}")
+        ax.set_xlabel("product needed per batch [kg]")
+        ax.set_ylabel("draws [-]")
+        ax.legend(fontsize=7)
+
+    sens = j.get("sensitivity") or []
+
+    def draw_tornado(fig):
+        ax = fig.add_subplot()
+        base = j["deterministic_kg_product"] or 0.0
+        names = [_input_name(s["path"]) for s in sens][::-1]
+        for i, s in enumerate(sens[::-1]):
+            lo, hi = s["dose_low_kg"], s["dose_high_kg"]
+            if lo is None or hi is None:
+                continue
+            ax.barh(i, hi - base, left=base, color="#c0392b", alpha=0.7)
+            ax.barh(i, lo - base, left=base, color="#1f5fa8", alpha=0.7)
+        ax.set_yticks(range(len(names)), names, fontsize=7)
+        ax.axvline(base, color="#333", lw=1)
+        ax.set_xlabel("product needed per batch [kg] (blue: input at its low end, red: high end)")
+
+    pct = j["percentile"]
+    rows = [("samples", f"{j['samples']}"), ("P10", q(d["p10"], "kg product")), ("P50", q(d["p50"], "kg product")),
+            ("P90", q(d["p90"], "kg product")),
+            (f"P{pct:g} (covered by the charge)", q(j["dose_kg_product_at_percentile"], "kg product")),
+            ("deterministic dose", q(j["deterministic_kg_product"], "kg product")),
+            ("recommended charge", q(charge, "kg product")),
+            ("probability the charge meets the target", q(100 * j["probability_target_met"], "%", 4)),
+            ("draws whose target is above the CMC", q(100 * j["infeasible_fraction"], "%", 3))]
+    body = (f"<p><b>The recommended charge covers the {pct:g}th percentile</b> of the dose needed over the "
+            f"spreads given in the case, plus the margin ({esc(j['sampling'])}).</p>")
+    body += table(rows, numeric_cols=(1,))
+    body += chart(draw_hist, "Monte Carlo: product needed per batch [kg] over the input spreads, with "
+                             "P10, P50, P90 and the recommended charge.")
+    if sens:
+        body += chart(draw_tornado, "Sensitivity (tornado): the dose with each input at its P10 and P90 "
+                                    "(low and high for a uniform spread), the others at their values.")
+        body += table([(_input_name(s["path"]), q(s["dose_low_kg"], "kg"), q(s["dose_high_kg"], "kg"),
+                        q(s["elasticity"], "(-)")) for s in sens],
+                      ("input", "dose at low [kg]", "dose at high [kg]", "elasticity d ln dose / d ln x"),
+                      numeric_cols=(1, 2, 3))
+    return section("uncertainty", "How sure: uncertainty and sensitivity", body)
+
+
+def render_adsorption(plan) -> str:
+    if plan.adsorption is None:
+        return ""
+    j = adsorption_json(plan.adsorption)
+    rows = [("adsorption depth h = Gamma/c", q(j["depth_m"], "um", scale=1e6)),
+            ("diffusion time tau_D = h**2/D", q(j["diffusion_time_s"], "s")),
+            ("residence time in the homogeniser", q(j["residence_time_s"], "s")),
+            ("tau_D / residence time", q(j["ratio"], "(-)") + f" (flag above {j['threshold']:g})")]
+    cls = "warn" if j["optimistic"] else "muted"
+    body = f'<p class="{cls}">{esc(j["message"])}</p>' + table(rows)
+    return section("adsorption", "Adsorption speed", body)

@@ -1,0 +1,127 @@
+"""Every user-facing text that more than one place shows: cautions, model assumptions, advice
+for an unreachable target, and readable names of case fields.
+
+One home, so the report, result.json, the command line and the workbench never disagree.  Plain
+strings and small functions of numbers; no computation.
+"""
+
+from __future__ import annotations
+
+# cautions of every plan (report.html, result.json "cautions", the workbench's Plan page)
+CAUTIONS = (
+    "This is an equilibrium estimate from a mass balance; confirm the dose by a plant trial before "
+    "adopting it.",
+    "Handle surfactants per their safety data sheet (SDS), with suitable protective equipment "
+    "(eye protection, gloves) and the site's handling procedures.",
+    "Food, cosmetic and pharmaceutical products have legal limits on emulsifier levels; check the "
+    "charge against the regulations that apply to the product and market.",
+    "Defer to local codes, site procedures and qualified practice; a plant trial needs the usual "
+    "approvals (management of change, hazard review).",
+)
+
+# the same four points, short (the workbench's side panel)
+CAUTIONS_BRIEF = (
+    "Equilibrium estimate: confirm the dose by a lab batch and a plant trial.",
+    "Handle surfactants per their safety data sheet, with suitable protective equipment.",
+    "Food, cosmetic and pharmaceutical uses have legal limits on emulsifier levels.",
+    "Defer to local codes and qualified practice.",
+)
+
+# the closing lines of ``sizing plan`` on the terminal
+CLI_CAUTION = ("Equilibrium estimate: confirm the dose by a plant trial. Handle surfactants per their safety "
+               "data sheet;\nfood, cosmetic and pharmaceutical uses have legal emulsifier limits; defer to local "
+               "codes and\nqualified practice (see the cautions in report.html).")
+
+MODEL_ASSUMPTIONS = (
+    "Equilibrium: adsorption, partitioning and micellisation have finished (no kinetic losses).",
+    "Pseudo-phase model: the free monomer never exceeds the CMC; surfactant beyond it forms "
+    "micelles in the continuous phase.",
+    "The interfacial area is the shape factor times 6 V_d / d32 (the Sauter mean sets the area).",
+    "One surface-active species; other ingredients neither adsorb nor bind the surfactant.",
+    "The partition coefficient of the monomer is constant below the CMC.",
+    "The isotherm constants, the CMC and the partition coefficient hold at the batch temperature as "
+    "given (the temperature enters only through R T in the equation of state): measure them near "
+    "the process temperature.",
+    "Nothing is lost to vessel walls, foam or air (in an emulsion), or to solids and other ingredients "
+    "that adsorb surfactant.",
+)
+
+
+# ---------------------------------------------------------------------------------------------
+# a target the CMC does not allow
+#
+# The free monomer cannot exceed the CMC, so the largest coverage is theta(CMC).  Every isotherm
+# here gives theta from the product K c alone (Langmuir: theta = Kc/(1 + Kc)), so the ceiling
+# theta(K CMC) rises with K x CMC: stronger adsorption at the same CMC, or a HIGHER CMC at the
+# same K.  A lower CMC at the same K lowers the ceiling.  Drop size and dose do not move it.
+
+
+def unreachable_reason(max_coverage: float) -> str:
+    """Return the one-line reason a target is not reachable (solve JSON ``unreachable``)."""
+    return (f"the target needs a free concentration above the CMC; at equilibrium the coverage "
+            f"cannot exceed {float(max_coverage):.4g}")
+
+
+def unreachable_options(max_coverage: float) -> tuple[str, ...]:
+    """Return what an engineer can do when the target needs more than the CMC allows."""
+    return (
+        f"Accept a lower coverage: at equilibrium the CMC caps it at {max_coverage:.3g} "
+        "(set target.coverage below that and re-plan).",
+        "Choose another surfactant with a larger product K x CMC (adsorption constant times CMC): one "
+        "that adsorbs more strongly at a similar CMC, or has a higher CMC at a similar adsorption "
+        "constant. The coverage at the CMC rises with K x CMC; a lower CMC alone lowers it.",
+        "Make larger drops or bubbles (less area): this lowers the dose but does not raise the "
+        "coverage ceiling, which is set by K x CMC.",
+        "A co-surfactant or salt changes both K and the CMC; what counts is the tension at the CMC (a lower "
+        "tension at the CMC means a higher coverage there): measure it in the lab before relying on it.",
+    )
+
+
+def unreachable_explanation(what: str, needed_mM: float, needed_coverage: float, cmc_mM: float,
+                            max_coverage: float) -> str:
+    """Return the workbench's explanation of an unreachable target (numbers already in mM)."""
+    return (
+        f"The target ({what}) needs {needed_mM:.3g} mM of free surfactant in the continuous phase "
+        f"(coverage {needed_coverage:.3g}), but the CMC is {cmc_mM:.3g} mM. Surfactant added "
+        f"beyond the CMC forms micelles and the free concentration stops rising, so at equilibrium "
+        f"the coverage cannot exceed {max_coverage:.3g}, whatever the dose. Lower the "
+        f"target to at most that coverage, or choose a surfactant with a larger K x CMC: one that adsorbs "
+        f"more strongly (a larger adsorption constant) or has a higher CMC."
+    )
+
+
+# ---------------------------------------------------------------------------------------------
+# readable names of case fields
+
+FIELD_LABELS = {
+    "batch.volume": "batch volume", "batch.mass": "batch mass",
+    "batch.dispersed_fraction": "dispersed fraction", "batch.temperature": "temperature",
+    "batch.continuous_density": "continuous-phase density", "batch.dispersed_density": "dispersed-phase density",
+    "drops.d32": "Sauter mean diameter d32", "drops.median": "median diameter", "drops.gsd": "geometric SD",
+    "drops.characteristic_size": "RRSB characteristic size", "drops.spread": "RRSB spread",
+    "drops.shape_factor": "shape factor", "surfactant.molar_mass": "molar mass",
+    "surfactant.active_fraction": "active fraction of the product", "surfactant.cmc": "CMC",
+    "surfactant.max_surface_excess": "maximum surface excess",
+    "surfactant.area_per_molecule": "area per molecule",
+    "surfactant.adsorption_constant": "adsorption constant K", "surfactant.interaction": "Frumkin beta",
+    "surfactant.gibbs_prefactor": "Gibbs prefactor n", "surfactant.partition_coefficient": "partition coefficient",
+    "surfactant.clean_tension": "clean-interface tension", "surfactant.price_per_kg": "price per kg of product",
+    "surfactant.diffusivity": "monomer diffusivity", "target.coverage": "target coverage",
+    "target.tension": "target tension", "target.free_concentration": "target free concentration",
+    "target.margin": "safety margin", "recommendation.increment": "charge increment",
+    "scaleup.plant": "plant process variable", "scaleup.plant_diameter": "plant impeller diameter",
+    "scaleup.exponent": "power-law exponent b", "scaleup.lab_diameter": "lab impeller diameter",
+    "scaleup.lab_speed": "lab speed", "scaleup.plant_speed": "plant speed",
+    "scaleup.weber_exponent": "Weber exponent", "process.residence_time": "residence time in the homogeniser",
+}
+
+
+def field_label(path: str) -> str:
+    """Return a readable name of a case field (``"drops.d32"`` -> ``"Sauter mean diameter d32"``).
+
+    >>> field_label("drops.d32")
+    'Sauter mean diameter d32'
+    >>> field_label("batch.some_key")
+    'some key'
+    """
+    return FIELD_LABELS.get(path) or path.partition(".")[2].replace("_", " ")
