@@ -32,8 +32,8 @@ def tcholakova_case(d32="0.5 um"):
 
 
 def test_tcholakova_example():
-    # Tcholakova, Denkov, Sidzhakova, Ivanov and Campbell, Langmuir 19 (2003) 5640, worked example
-    # of REFERENCES.md [D]: Gamma* = 2 mg/m**2, phi = 0.2, d32 = 1 um needs 3.00 kg/m**3 of
+    # Tcholakova, Denkov, Sidzhakova, Ivanov and Campbell, Langmuir 19 (2003) 5640 [formula from
+    # memory], evaluated exactly: Gamma* = 2 mg/m**2, phi = 0.2, d32 = 1 um needs 3.00 kg/m**3 of
     # continuous phase.  Here 0.8 m**3 of water: 2.4 kg of active.  Tolerance 1e-6 relative (the
     # residual bulk loss is about 3e-9 mol against 8.3 mol).
     case = tcholakova_case()

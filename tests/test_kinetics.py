@@ -18,7 +18,7 @@ HPH = ROOT / "cases_demo" / "miniemulsion_hph.toml"
 
 
 def test_ferri_stebe_example():
-    # Ferri and Stebe, Adv. Colloid Interface Sci. 85 (2000) 61, example of REFERENCES.md [D]:
+    # Ferri and Stebe, Adv. Colloid Interface Sci. 85 (2000) 61, tau_D = (Gamma/c)**2/D evaluated exactly:
     # Gamma = 3 umol/m**2, c = 0.05 mol/m**3, D = 6e-10 m**2/s gives h = 60 um, tau_D = 6.0 s
     # (printed to 2 significant figures; exact arithmetic here, 1e-12)
     h, tau = diffusion_time(3e-6, 0.05, 6e-10)

@@ -66,7 +66,8 @@ def test_trial_levels_are_forward_solves_with_micelles_above_cmc(lotion):
 
 
 def test_reference_surfactant_poor_example():
-    # REFERENCES.md, surfactant-poor regime [D] (Tcholakova et al. 2003 / Walstra): Gamma* = 2 mg/m2,
+    # surfactant-poor regime, d32 = 6 Gamma* phi / ((1 - phi) C_ini) (Tcholakova, Denkov, Sidzhakova,
+    # Ivanov and Campbell, Langmuir 19 (2003) 5640 [formula from memory]; Walstra's form): Gamma* = 2 mg/m2,
     # phi = 0.2, d32 = 1 um needs 3.00 kg/m3 of continuous phase.  Zero bulk loss: K huge, no CMC,
     # P = 0; Gamma_inf 4 mg/m2 at coverage 0.5 gives Gamma* = 2 mg/m2.  Tolerance 1e-9 relative.
     text = """
@@ -92,7 +93,7 @@ increment = "0.001 kg"
 """
     plan = build_plan(loads_case(text))
     j = solution_json(plan.solution, plan.case)
-    # area identity 6 phi / d32 per m3 of dispersion (REFERENCES.md [D]): 1.2e6 m2/m3
+    # area identity 6 phi / d32 per m3 of dispersion (definition of the Sauter mean, ISO 9276-2): 1.2e6 m2/m3
     assert j["interfacial_area_m2"] == pytest.approx(1.2e6, rel=1e-12)
     assert j["dose"]["kg_active"] / 0.8 == pytest.approx(3.00, rel=1e-9)
     assert plan.recommendation.kg_active_per_batch == pytest.approx(2.4, rel=1e-9)

@@ -34,12 +34,13 @@ def with_scaleup(**keys):
 
 # ---------------------------------------------------------------------------------------------
 # stirred tanks: identities of d32/D = C1 (1 + C2 phi) We**-0.6 (Chen and Middleman, AIChE J. 13
-# (1967) 989 [from memory]); the consequences are derived exactly in REFERENCES.md [D]
+# (1967) 989 [from memory]); the consequences follow exactly from We = rho N**2 D**3 / sigma
+# and P/V ~ N**3 D**2 (derived here, common practice for geometrically similar tanks)
 
 
 @pytest.mark.parametrize("scale", [2.0, 5.0, 10.0, 37.5])
 def test_constant_power_per_volume_keeps_d32(scale):
-    # REFERENCES.md [D]: d32 does not change at constant power per volume; exact, 1e-12
+    # derived from Chen and Middleman (1967): d32 does not change at constant power per volume; exact, 1e-12
     n_p = stirred_tank_speed(0.1, 10.0, 0.1 * scale, "constant_power_per_volume")
     assert float(stirred_tank_ratio(0.1, 10.0, 0.1 * scale, n_p)) == pytest.approx(1.0, rel=1e-12)
     # and P/V ~ N**3 D**2 is kept (common practice, turbulent regime)
@@ -48,7 +49,7 @@ def test_constant_power_per_volume_keeps_d32(scale):
 
 @pytest.mark.parametrize("scale", [2.0, 5.0, 10.0])
 def test_constant_tip_speed_gives_d32_as_d_to_0_4(scale):
-    # REFERENCES.md [D]: d32 grows as D**0.4 at constant tip speed; exact, 1e-12
+    # derived from Chen and Middleman (1967): d32 grows as D**0.4 at constant tip speed; exact, 1e-12
     n_p = stirred_tank_speed(0.2, 5.0, 0.2 * scale, "constant_tip_speed")
     assert float(stirred_tank_ratio(0.2, 5.0, 0.2 * scale, n_p)) == pytest.approx(scale ** 0.4, rel=1e-12)
 
@@ -134,7 +135,7 @@ def test_prediction_band_contains_prediction_and_widens_outside():
 
 
 def test_one_point_uses_default_exponent_marked_default():
-    # REFERENCES.md "Drop size and scale-up": d32 ~ p**-0.6 for homogenisers [from memory]
+    # high-pressure homogenisers, turbulent-inertial regime: d32 ~ p**-0.6 [from memory]
     case = with_scaleup(method="power_law", variable="pressure",
                         points=[{"pressure": "300 bar", "d32": "2.0 um"}], plant="600 bar")
     r = scaleup_case(case)

@@ -21,6 +21,7 @@ import streamlit as st
 from sizing import views
 from sizing.case import dumps_case, parse_case
 from sizing.errors import InputError
+from sizing.texts import CAUTIONS_BRIEF
 
 CASE = "case_dict"
 BASE = "case_base_dir"
@@ -30,12 +31,7 @@ STASH = "case_stash"  # values of fields hidden by a switch (restored when switc
 PREFIX = "f:"
 OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty", "process")
 
-CAUTIONS = (
-    "Equilibrium estimate: confirm the dose by a lab batch and a plant trial.",
-    "Handle surfactants per their safety data sheet, with suitable protective equipment.",
-    "Food, cosmetic and pharmaceutical uses have legal limits on emulsifier levels.",
-    "Defer to local codes and qualified practice.",
-)
+CAUTIONS = CAUTIONS_BRIEF  # one home for the texts: sizing.texts
 
 
 # ---------------------------------------------------------------------------------------------
