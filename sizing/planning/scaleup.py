@@ -1,31 +1,11 @@
-"""Plant drop size from process conditions: a calibrated power law, or a stirred-tank rule.
+"""Plant drop size of a case with ``[scaleup]``: the prediction, its band, and how it was found.
 
-Two methods, chosen by name (``[scaleup] method``):
-
-- ``power_law``: ``d32 = C X**b`` with X the homogenising pressure [Pa], the energy density
-  [J/m**3] or the rotor tip speed [m/s] (given directly or as a speed and a diameter,
-  ``v = pi N D``).  C and b are fitted by least squares in log space (``scipy.stats.linregress``)
-  from two or more lab points, with 95 % intervals; with one point (or an exponent fixed in the
-  case) only C is fitted and b is a default (:data:`DEFAULT_EXPONENTS`), marked as such.
-- ``stirred_tank``: the Weber-number correlation ``d32/D = C1 (1 + C2 phi) We**a``,
-  ``We = rho_c N**2 D**3 / sigma``, ``a = -0.6`` (Chen and Middleman 1967).  Calibrated on the
-  lab vessel (its d32 is the case's ``[drops]`` size), so C1, C2, rho_c and sigma cancel for
-  geometrically similar vessels and the same fluids::
-
-      d32_plant / d32_lab = (D_p/D_l) (We_p/We_l)**a,   We_p/We_l = (N_p/N_l)**2 (D_p/D_l)**3.
-
-  Rules: constant power per volume (``N**3 D**2`` kept, d32 unchanged at a = -0.6), constant
-  tip speed (``N D`` kept, d32 grows as D**0.4), constant speed, or a given plant speed.
-
-Every result carries a band: a 95 % prediction interval when the lab points allow one, else
-the spread of the prediction over an exponent window (:data:`EXPONENT_WINDOWS`), said so in
-``band_method``.  Extrapolation beyond the lab range is flagged, never clamped.
-
-References
-----------
-1. Chen, H. T. and Middleman, S., AIChE J. 13 (1967) 989 (stirred-tank drop size) [from memory].
-2. Published ranges for high-pressure homogenisers: d32 ~ p**-0.6, exponents
-   -0.6 to -0.9 reported [from memory].
+The correlations (power law ``d32 = C X**b`` fitted on lab points, stirred-tank Weber rules)
+are pure functions in :mod:`sizing.physics.dropsize`; the plant d32 that the balance uses is
+computed by :func:`sizing.model.plant_d32_of_values`.  :func:`scaleup_case` adds what the
+engineer reads: the band (a 95 % prediction interval when the lab points allow one, else an
+exponent window, said so in ``band_method``), the exponent's source, and warnings such as
+extrapolation beyond the lab range (flagged, never clamped).
 """
 
 from __future__ import annotations
