@@ -25,13 +25,41 @@ from .roots import bracketed_newton
 
 @dataclass(frozen=True)
 class BalanceState:
-    """An equilibrium state of the batch; every field broadcasts to the input shape.
+    """Hold an equilibrium state of the batch; every field broadcasts to the input shape.
 
     Attributes
     ----------
-    free_concentration : c, monomer in the continuous phase [mol/m**3]
-    coverage : theta [-]
-    continuous_mol, dispersed_mol, interface_mol, micelle_mol : where the dose is [mol]
+    free_concentration : ndarray
+        c, monomer in the continuous phase [mol/m**3].
+    coverage : ndarray
+        theta [-].
+    continuous_mol : ndarray
+        Monomer dissolved in the continuous phase, ``c V_c`` [mol].
+    dispersed_mol : ndarray
+        Monomer dissolved in the drops, ``u c V_d`` [mol].
+    interface_mol : ndarray
+        Adsorbed, ``Gamma_inf theta A`` [mol].
+    micelle_mol : ndarray
+        In micelles, > 0 only at ``c = CMC`` [mol].
+
+    Notes
+    -----
+    ``total_mol`` is the dose the state holds, the sum of the four places [mol].
+
+    Examples
+    --------
+    >>> s = state_at_concentration(0.01, continuous_volume=1.0, dispersed_volume=0.25, uptake=2.0,
+    ...                            max_surface_excess=4e-6, area=1e4, adsorption_constant=100.0)
+    >>> round(float(s.total_mol), 12)
+    0.035
+
+    References
+    ----------
+    1. Rosen, M. J. and Kunjappu, J. T., Surfactants and Interfacial Phenomena, 4th ed., Wiley
+       (2012), ch. 2-3 (adsorption at interfaces, micellisation and the pseudo-phase picture)
+       [from memory].
+    2. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
     """
 
     free_concentration: np.ndarray
@@ -56,7 +84,56 @@ def state_at_concentration(c, *, continuous_volume, dispersed_volume, uptake, ma
                            theta=None) -> BalanceState:
     """Return the state with free concentration ``c`` (<= CMC) and no micelles.
 
-    ``theta`` may be passed when already known (it must equal theta(c)).
+    Parameters
+    ----------
+    c : float or ndarray
+        Free monomer concentration in the continuous phase [mol/m**3].
+    continuous_volume, dispersed_volume : float or ndarray
+        V_c, V_d [m**3].
+    uptake : float or ndarray
+        u, dispersed over continuous monomer concentration [-]
+        (:func:`sizing.physics.phases.dispersed_uptake`).
+    max_surface_excess : float or ndarray
+        Gamma_inf [mol/m**2].
+    area : float or ndarray
+        A [m**2].
+    adsorption_constant : float or ndarray
+        K [m**3/mol].
+    model : str
+        Isotherm name; ``beta`` the Frumkin interaction [-].
+    cmc : float or ndarray
+        [mol/m**3]; not used here (the caller keeps ``c <= cmc``).
+    theta : float or ndarray, optional
+        The coverage when already known (it must equal theta(c)) [-].
+
+    Returns
+    -------
+    BalanceState
+
+    Raises
+    ------
+    InputError
+        For an unknown isotherm (through :func:`sizing.physics.isotherm.theta_of_c`).
+
+    Notes
+    -----
+    ``N = c V_c + u c V_d + Gamma_inf theta(c) A`` with ``N_mic = 0``; valid for
+    ``0 <= c <= CMC`` (pseudo-phase model [1]).
+
+    Examples
+    --------
+    >>> s = state_at_concentration(0.01, continuous_volume=1.0, dispersed_volume=0.25, uptake=2.0,
+    ...                            max_surface_excess=4e-6, area=1e4, adsorption_constant=100.0)
+    >>> [round(float(v), 12) for v in (s.coverage, s.continuous_mol, s.dispersed_mol, s.interface_mol)]
+    [0.5, 0.01, 0.005, 0.02]
+
+    References
+    ----------
+    1. Rosen, M. J. and Kunjappu, J. T., Surfactants and Interfacial Phenomena, 4th ed., Wiley
+       (2012), ch. 2-3 (adsorption at interfaces, micellisation and the pseudo-phase picture)
+       [from memory].
+    2. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
     """
     c = _arr(c)
     if theta is None:
@@ -82,20 +159,44 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
 
     Parameters
     ----------
-    dose_mol : N, active per batch [mol]
-    continuous_volume, dispersed_volume : V_c, V_d [m**3]
-    uptake : u, dispersed over continuous monomer concentration [-]
-    max_surface_excess : Gamma_inf [mol/m**2]
-    area : A [m**2]
-    adsorption_constant : K [m**3/mol]
-    model : isotherm name; beta : Frumkin interaction [-]
-    cmc : [mol/m**3]; ``inf`` for no micelles
+    dose_mol : float or ndarray
+        N, active per batch [mol].
+    continuous_volume, dispersed_volume : float or ndarray
+        V_c, V_d [m**3].
+    uptake : float or ndarray
+        u, dispersed over continuous monomer concentration [-].
+    max_surface_excess : float or ndarray
+        Gamma_inf [mol/m**2].
+    area : float or ndarray
+        A [m**2].
+    adsorption_constant : float or ndarray
+        K [m**3/mol].
+    model : str
+        Isotherm name; ``beta`` the Frumkin interaction [-].
+    cmc : float or ndarray
+        [mol/m**3]; ``inf`` for no micelles.
+    xtol : float
+        Absolute tolerance of the root in ``logit(theta)`` [-].
+
+    Returns
+    -------
+    BalanceState
+        Broadcast over every input; ``total_mol`` equals the dose to about 1e-12 relative.
+
+    Raises
+    ------
+    InputError
+        For an unknown isotherm or a Frumkin beta above 2.
 
     Notes
     -----
-    Below the micelle threshold ``N_cmc = c_cmc (V_c + u V_d) + Gamma_inf theta(cmc) A`` the
-    root of ``g(y) = V_eff exp(lnKc(y))/K + Gamma_inf A expit(y) - N`` is bracketed by the two
-    facts that each term is at most N and one of them is at least N/2.
+    Solves ``N = c V_eff + Gamma_inf theta(c) A + N_mic`` with ``V_eff = V_c + u V_d``.
+    Below the micelle threshold ``N_cmc = CMC V_eff + Gamma_inf theta(CMC) A`` Langmuir is the
+    closed-form root of ``V K c**2 + (V + S K - N K) c - N = 0`` (``S = Gamma_inf A``), written
+    in the cancellation-free form; Frumkin and Volmer solve
+    ``g(y) = V_eff exp(lnKc(y))/K + Gamma_inf A expit(y) - N`` in ``y = logit(theta)``,
+    bracketed by the two facts that each term is at most N and one of them is at least N/2.
+    At or above ``N_cmc`` the state is ``c = CMC`` and the rest is in micelles [1, 2].
 
     Examples
     --------
@@ -103,6 +204,14 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
     ...                    max_surface_excess=1e-6, area=1e6, adsorption_constant=1.0)
     >>> round(float(s.free_concentration), 12), round(float(s.coverage), 12)  # c + c/(1+c) = 1
     (0.61803398875, 0.38196601125)
+
+    References
+    ----------
+    1. Rosen, M. J. and Kunjappu, J. T., Surfactants and Interfacial Phenomena, 4th ed., Wiley
+       (2012), ch. 2-3 (adsorption at interfaces, micellisation and the pseudo-phase picture)
+       [from memory].
+    2. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
     """
     model = check_model(model, beta)
     n, vc, vd, u = _arr(dose_mol), _arr(continuous_volume), _arr(dispersed_volume), _arr(uptake)
@@ -170,14 +279,89 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
 def dose_for_concentration(c, **kwargs) -> BalanceState:
     """Return the state (and with it the dose, ``.total_mol``) that leaves free monomer ``c``.
 
-    Takes the same keywords as :func:`state_at_concentration`.  ``c`` above the CMC is not an
-    equilibrium state; the caller checks feasibility first (see :func:`max_coverage`).
+    Parameters
+    ----------
+    c : float or ndarray
+        Free monomer concentration, <= CMC [mol/m**3].
+    **kwargs
+        The keywords of :func:`state_at_concentration` (volumes [m**3], uptake [-],
+        Gamma_inf [mol/m**2], area [m**2], K [m**3/mol], model, beta [-]).
+
+    Returns
+    -------
+    BalanceState
+
+    Raises
+    ------
+    InputError
+        For an unknown isotherm.
+
+    Notes
+    -----
+    The explicit direction target -> dose: ``N = c (V_c + u V_d) + Gamma_inf theta(c) A``.
+    ``c`` above the CMC is not an equilibrium state; the caller checks feasibility first
+    (see :func:`max_coverage`).
+
+    Examples
+    --------
+    >>> s = dose_for_concentration(0.01, continuous_volume=1.0, dispersed_volume=0.25, uptake=2.0,
+    ...                            max_surface_excess=4e-6, area=1e4, adsorption_constant=100.0)
+    >>> round(float(s.total_mol), 12)  # 0.01 + 0.005 + 0.02 mol
+    0.035
+
+    References
+    ----------
+    1. Rosen, M. J. and Kunjappu, J. T., Surfactants and Interfacial Phenomena, 4th ed., Wiley
+       (2012), ch. 2-3 (adsorption at interfaces, micellisation and the pseudo-phase picture)
+       [from memory].
+    2. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
     """
     return state_at_concentration(c, **kwargs)
 
 
 def max_coverage(adsorption_constant, cmc, model="langmuir", beta=0.0):
-    """Return the largest equilibrium coverage [-]: theta at the CMC (1 without a CMC)."""
+    """Return the largest equilibrium coverage [-]: theta at the CMC (1 without a CMC).
+
+    Parameters
+    ----------
+    adsorption_constant : float or ndarray
+        K [m**3/mol].
+    cmc : float or ndarray
+        [mol/m**3]; inf for a surfactant without micelles.
+    model : str
+        Isotherm name.
+    beta : float or ndarray
+        Frumkin interaction [-].
+
+    Returns
+    -------
+    ndarray
+        ``theta(CMC)`` [-], or 1 where the CMC is infinite.
+
+    Raises
+    ------
+    InputError
+        For an unknown isotherm.
+
+    Notes
+    -----
+    In the pseudo-phase model the monomer concentration stops at the CMC, so no dose reaches
+    a coverage above ``theta(CMC)`` at equilibrium [1].
+
+    Examples
+    --------
+    >>> [float(v) for v in (max_coverage(100.0, 0.01), max_coverage(100.0, float("inf")))]
+    [0.5, 1.0]
+
+    References
+    ----------
+    1. Rosen, M. J. and Kunjappu, J. T., Surfactants and Interfacial Phenomena, 4th ed., Wiley
+       (2012), ch. 2-3 (adsorption at interfaces, micellisation and the pseudo-phase picture)
+       [from memory].
+    2. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
+    """
     cmc = _arr(cmc)
     finite = np.isfinite(cmc)
     return np.where(finite, theta_of_c(np.where(finite, cmc, 0.0), adsorption_constant, model, beta), 1.0)
