@@ -89,7 +89,7 @@ def test_vectorised_equals_scalar_calls():
 
 
 def test_micelles_take_the_excess_and_cap_the_oil():
-    # Laven, Open Colloid Sci. J. 4 (2011) 37 [P]: below the CMC a constant oil/water ratio
+    # Laven, Open Colloid Sci. J. 4 (2011) 37 (published): below the CMC a constant oil/water ratio
     # (about 2 for an octylphenol ethoxylate against sunflower oil); surfactant added past the
     # CMC stays in the water.  With P = 2 the oil holds 2 c V_o and stops growing at the CMC.
     kw = _kw(1.0, 0.25, 2.0, 3e-6, 1e5, 100.0, 0.0, "langmuir")
@@ -113,8 +113,9 @@ def test_no_cmc_means_no_micelles():
 
 
 def test_surfactant_poor_example():
-    # Tcholakova, Denkov, Sidzhakova, Ivanov and Campbell, Langmuir 19 (2003) 5640 [P concept,
-    # M formula]; REFERENCES.md [D]: Gamma* = 2 mg/m2, phi = 0.2, d32 = 1 um needs 3.00 kg/m3 of
+    # Tcholakova, Denkov, Sidzhakova, Ivanov and Campbell, Langmuir 19 (2003) 5640 (the concept
+    # published, the formula d32 = 6 Gamma* phi / ((1 - phi) C_ini) from memory); derived from it:
+    # Gamma* = 2 mg/m2, phi = 0.2, d32 = 1 um needs 3.00 kg/m3 of
     # continuous phase when the bulk keeps nothing.  Strong adsorption (K = 1e12 m3/mol) makes
     # the bulk share about 1e-6 of the dose; tolerance 1e-4 relative.
     molar_mass = 25.0  # kg/mol, a protein-like emulsifier

@@ -16,8 +16,8 @@ from sizing.physics.distribution import (
 
 
 def test_hatch_choate_worked_values():
-    # Hatch and Choate, J. Franklin Inst. 207 (1929) 369 relations; values derived exactly in
-    # REFERENCES.md [D]: CMD = 1 um, gsd = 1.5 -> d32 1.50833, MMD 1.63756, d43 1.77785 um.
+    # Hatch and Choate, J. Franklin Inst. 207 (1929) 369 relations; values derived exactly from
+    # them: CMD = 1 um, gsd = 1.5 -> d32 1.50833, MMD 1.63756, d43 1.77785 um.
     # Printed to 6 significant figures: tolerance 5e-6 relative.
     s = lognormal_stats(1e-6, 1.5, "number")
     assert s.d32 * 1e6 == pytest.approx(1.50833, rel=5e-6)
@@ -53,7 +53,8 @@ def test_lognormal_volume_basis_is_consistent():
 
 
 def test_rrsb_worked_values():
-    # RRSB closed forms (REFERENCES.md [D]): x' = 100 um, n = 2: d32 = 56.419 um,
+    # RRSB closed forms (Rosin and Rammler, J. Inst. Fuel 7 (1933) 29 [from memory]; d50 = x' (ln 2)**(1/n),
+    # d32 = x'/Gamma(1 - 1/n), derived exactly): x' = 100 um, n = 2: d32 = 56.419 um,
     # d50 = 83.2555 um, span = 1.43274; tolerance at the printed precision.
     s = rrsb_stats(100e-6, 2.0)
     assert s.d32 * 1e6 == pytest.approx(56.419, abs=5e-4)
@@ -89,7 +90,8 @@ def test_table_integrates_within_classes():
 
 
 def test_fine_table_approaches_lognormal():
-    # A log-normal sampled into 200 fine classes must give the Hatch-Choate d32 (REFERENCES.md);
+    # A log-normal sampled into 200 fine classes must give the Hatch-Choate d32 (Hatch and
+    # Choate, J. Franklin Inst. 207 (1929) 369);
     # discretisation tolerance 1e-4 relative.
     cmd, gsd = 1e-6, 1.6
     s = lognormal_stats(cmd, gsd)
@@ -119,7 +121,8 @@ def test_table_layouts_and_errors():
 
 
 def test_area_identities():
-    # REFERENCES.md [D]: phi = 0.2, d32 = 1 um gives 1.2e6 m2 per m3 of dispersion.
+    # A = 6 V_d / d32 for spheres (ISO 9276-2, specific surface of a size distribution), derived
+    # exactly: phi = 0.2, d32 = 1 um gives 1.2e6 m2 per m3 of dispersion.
     assert interfacial_area(1e-6, 0.2) == pytest.approx(1.2e6, rel=1e-12)
     d = np.array([1e-6, 2e-6])
     np.testing.assert_allclose(interfacial_area(d, 0.2), [1.2e6, 0.6e6])

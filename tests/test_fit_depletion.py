@@ -126,7 +126,9 @@ def test_langmuir_fit_coverage_with_noisy_concentrations():
 def test_demo_file():
     res = fit_depletion(DEMO)
     salt = [r for r in res.rows if r["sample"].startswith("NaCl")]
-    # generated with -3.3e-7 mol/m2 (REFERENCES.md: about 1.64 mN/m per mol/L NaCl [M] -> [D])
+    # the demo file was generated with -3.3e-7 mol/m2: NaCl raises water's tension by about 1.64 mN/m
+    # per mol/L [from memory; measured data: Weissenborn and Pugh, J. Colloid Interface Sci. 184
+    # (1996) 550], and Gamma = -(c/(2 R T)) d gamma/d c gives -3.3e-7 mol/m2 at 1 mol/L
     assert salt[0]["surface_excess_mol_m2"] == pytest.approx(-3.3e-7, rel=0.05)
     assert NEGATIVE_NOTE in salt[0]["notes"]
     f = res.langmuir["NE-6"]

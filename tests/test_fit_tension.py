@@ -47,7 +47,8 @@ def write_csv(tmp_path, text, name="series.csv"):
 
 # ---------------------------------------------------------------- reference values
 def test_langmuir_reference_pressures():
-    # REFERENCES.md Langmuir example [D]: Gamma_inf 4 umol/m2, K 100 m3/mol, n = 1, 25 C:
+    # Langmuir/Szyszkowski example derived exactly from Pi = n R T Gamma_inf ln(1 + K c)
+    # (Szyszkowski, Z. Phys. Chem. 64 (1908) 385 [from memory]): Gamma_inf 4 umol/m2, K 100 m3/mol, n = 1, 25 C:
     # c = 0.01 mol/m3 -> 6.8731 mN/m, c = 1 -> 45.763 mN/m; tolerance at the printed precision
     pi = 72e-3 - model_tension(np.array([0.01, 1.0]), "langmuir", 72e-3, 4e-6, 100.0, np.inf, T25)
     assert pi[0] * 1e3 == pytest.approx(6.8731, abs=5e-5)
@@ -116,7 +117,7 @@ def test_bootstrap_intervals_bracket_the_estimate():
 
 def test_area_per_molecule_in_json():
     j = tension_fit_json(fit_tension(synthetic(5, sd=0.0), model="langmuir"))
-    # 1/(N_A Gamma_inf): 3.3 umol/m2 -> 0.503194 nm2 (CODATA 2018 exact N_A, [D])
+    # 1/(N_A Gamma_inf): 3.3 umol/m2 -> 0.503194 nm2 (N_A exact since the 2019 SI, BIPM SI Brochure 9th ed.)
     assert j["area_per_molecule_m2"] * 1e18 == pytest.approx(0.503194, rel=1e-5)
 
 

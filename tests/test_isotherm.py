@@ -22,8 +22,8 @@ T25 = 298.15
 
 
 def test_langmuir_szyszkowski_example():
-    # REFERENCES.md [D] from the Langmuir/Szyszkowski forms (McClements, Food Emulsions 2005,
-    # ch. 5): Gamma_inf = 4 umol/m2, K = 100 m3/mol, n = 1, 25 C.
+    # derived exactly from the Langmuir/Szyszkowski forms (McClements, Food Emulsions, 2nd ed.,
+    # CRC Press 2005, ch. 5): Gamma_inf = 4 umol/m2, K = 100 m3/mol, n = 1, 25 C.
     # c = 0.01 mol/m3 -> Gamma = 2.000 umol/m2, pressure 6.8731 mN/m;
     # c = 1 mol/m3   -> Gamma = 3.9604 umol/m2, pressure 45.763 mN/m. Printed precision.
     for c, gamma, pi in [(0.01, 2.000, 6.8731), (1.0, 3.9604, 45.763)]:
@@ -38,7 +38,7 @@ def test_langmuir_szyszkowski_example():
 def test_gibbs_consistency(model, beta, n):
     # Gibbs adsorption equation Gamma = -(1/(n R T)) d gamma / d ln c (McClements 2005, ch. 5):
     # differentiate the equation of state numerically (central difference, step 1e-4 in ln c)
-    # and recover Gamma_inf theta to 1e-6 relative (REFERENCES.md).
+    # and recover Gamma_inf theta to 1e-6 relative.
     gi, k = 3.3e-6, 50.0
     lnc = np.linspace(np.log(1e-5), np.log(0.2), 25)
     h = 1e-4
@@ -79,7 +79,8 @@ def test_theta_of_c_vectorised_and_monotone():
 
 
 def test_area_per_molecule():
-    # a = 1/(N_A Gamma_inf): 0.50 nm2 is 3.321 umol/m2 (REFERENCES.md [D]); printed precision.
+    # a = 1/(N_A Gamma_inf): 0.50 nm2 is 3.321 umol/m2 (N_A exact, BIPM SI Brochure
+    # 9th ed. 2019); printed precision.
     assert surface_excess_from_area(0.50e-18) * 1e6 == pytest.approx(3.321, abs=5e-4)
     assert area_from_surface_excess(surface_excess_from_area(0.5e-18)) == pytest.approx(0.5e-18, rel=1e-12)
 
@@ -87,7 +88,8 @@ def test_area_per_molecule():
 def test_errors_name_the_choices():
     with pytest.raises(InputError, match="unknown isotherm 'henry'; expected one of langmuir, frumkin, volmer"):
         check_model("henry")
-    # Frumkin beta > 2: two-dimensional phase transition (REFERENCES.md [M]): refused with why
+    # Frumkin beta > 2: two-dimensional phase transition (Frumkin, Z. Phys. Chem. 116
+    # (1925) 466 [from memory]): refused with why
     with pytest.raises(InputError, match="phase transition"):
         theta_of_c(1.0, 1.0, "frumkin", 2.5)
 

@@ -7,7 +7,7 @@ from sizing.errors import InputError
 from sizing.physics.properties import water_surface_tension
 
 # IAPWS R1-76(2014), Revised Release on Surface Tension of Ordinary Water Substance: values
-# computed from the release's equation (REFERENCES.md, [D]); its table rounds to 0.01 mN/m, so
+# computed from the release's equation (derived exactly); its table rounds to 0.01 mN/m, so
 # the tolerance is 0.005 mN/m.
 IAPWS = [(273.16, 75.646), (293.15, 72.736), (298.15, 71.972), (323.15, 67.944), (373.15, 58.912)]
 
