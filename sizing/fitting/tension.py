@@ -54,11 +54,28 @@ PARAMS = ("clean_tension", "max_surface_excess", "adsorption_constant", "interac
 
 @dataclass(frozen=True)
 class TensionData:
-    """A validated tension series in SI.
+    """Hold a validated tension series in SI.
 
-    Attributes: ``concentration`` [mol/m**3] (> 0), ``tension`` [N/m], ``temperature`` [K] or
-    None when the file has no temperature column, ``path``, ``labels`` (column headers as
-    written, for messages), ``notes`` (things the reader noticed).
+    Attributes
+    ----------
+    path : str
+        The file read, for messages.
+    concentration : ndarray
+        Surfactant concentrations, > 0, sorted [mol/m**3].
+    tension : ndarray
+        Measured tensions [N/m].
+    temperature : float or None
+        Mean of the file's temperature column [K], None without one.
+    labels : dict
+        Column headers as written, for messages.
+    notes : tuple of str
+        Things the reader noticed (``"warning: ..."`` for warnings).
+
+    Examples
+    --------
+    >>> d = TensionData("s.csv", np.array([0.01, 0.1]), np.array([0.05, 0.04]), 298.15, {}, ())
+    >>> d.concentration.size
+    2
     """
 
     path: str
@@ -71,7 +88,54 @@ class TensionData:
 
 @dataclass(frozen=True)
 class ModelFit:
-    """One equation of state fitted to the whole series (SI values; intervals are 95 %)."""
+    """Hold one equation of state fitted to the whole series (SI values; intervals are 95 %).
+
+    Attributes
+    ----------
+    model : str
+        Isotherm name.
+    params : dict
+        ``clean_tension`` [N/m], ``max_surface_excess`` [mol/m**2], ``adsorption_constant``
+        [m**3/mol], ``interaction`` [-] (0 unless Frumkin), ``cmc`` [mol/m**3].
+    standard_errors : dict
+        Same keys, standard errors in the same units (nan where not fitted).
+    intervals : dict
+        Same keys, (low, high) 95 % intervals.
+    fitted : tuple of str
+        Names of the fitted parameters on the fitted (log) scale.
+    rss : float
+        Residual sum of squares [N**2/m**2].
+    aic, aicc : float
+        Akaike criteria [-] (residual variance counted as a parameter).
+    residuals : ndarray
+        Measured minus fitted tension [N/m].
+    x : ndarray
+        The solution on the fitted scale (internal).
+    at_bound : tuple of str
+        Parameters that ended at the edge of their allowed range.
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> round(fit.best.params["cmc"], 9)
+    0.065
+
+    References
+    ----------
+    1. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the equation of state) [from memory].
+    2. Bates, D. M. and Watts, D. G., Nonlinear Regression Analysis and Its Applications, Wiley
+       (1988), ch. 2 (covariance ``s**2 (J^T J)^-1``, t-intervals) [from memory].
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002): AICc and the "within 2 units" rule of thumb [from memory].
+    4. Muggeo, V. M. R., "Estimating regression models with unknown break-points", Stat. Med. 22
+       (2003) 3055-3071, doi:10.1002/sim.1545 [from memory].
+    5. Efron, B. and Tibshirani, R. J., An Introduction to the Bootstrap, Chapman and Hall (1993),
+       ch. 9 (residual bootstrap) [from memory].
+    """
 
     model: str
     params: dict  # name -> value [SI]; interaction 0 unless frumkin
@@ -88,7 +152,55 @@ class ModelFit:
 
 @dataclass(frozen=True)
 class TensionFit:
-    """The result of :func:`fit_tension`: every model, the chosen one and what was noticed."""
+    """Hold the result of :func:`fit_tension`: every model, the chosen one and what was noticed.
+
+    Attributes
+    ----------
+    data : TensionData
+    temperature : float
+        [K].
+    gibbs_prefactor : float
+        n [-].
+    clean_tension_fixed : float or None
+        gamma0 [N/m] when it was held fixed, None when fitted.
+    fits : dict
+        model -> :class:`ModelFit`.
+    model : str
+        The model used; ``selection`` says why.
+    n_below, n_above : int
+        Points below and above the fitted CMC.
+    bootstrap : dict or None
+        name -> (low, high) 95 % percentile interval [SI].
+    notes, warnings : tuple of str
+    forced : bool
+        True when the model was given rather than chosen.
+
+    Notes
+    -----
+    ``best`` is the :class:`ModelFit` of the model used.
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> fit.model, fit.n_below, fit.n_above
+    ('langmuir', 7, 5)
+
+    References
+    ----------
+    1. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the equation of state) [from memory].
+    2. Bates, D. M. and Watts, D. G., Nonlinear Regression Analysis and Its Applications, Wiley
+       (1988), ch. 2 (covariance ``s**2 (J^T J)^-1``, t-intervals) [from memory].
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002): AICc and the "within 2 units" rule of thumb [from memory].
+    4. Muggeo, V. M. R., "Estimating regression models with unknown break-points", Stat. Med. 22
+       (2003) 3055-3071, doi:10.1002/sim.1545 [from memory].
+    5. Efron, B. and Tibshirani, R. J., An Introduction to the Bootstrap, Chapman and Hall (1993),
+       ch. 9 (residual bootstrap) [from memory].
+    """
 
     data: TensionData
     temperature: float  # [K]
@@ -113,14 +225,44 @@ class TensionFit:
 def read_tension_csv(path) -> TensionData:
     """Read and check a tension series ``concentration [unit], tension [unit]``.
 
-    Optional columns: ``temperature [unit]``, ``replicate``, ``notes``.
+    Parameters
+    ----------
+    path : str or Path
+        CSV with a header naming each column with its unit in brackets; optional columns
+        ``temperature [unit]``, ``replicate``, ``notes``.
+
+    Returns
+    -------
+    TensionData
+        Concentrations [mol/m**3] and tensions [N/m] sorted by concentration.
 
     Raises
     ------
     InputError
         A missing unit or column, a non-numeric or empty cell (row and column named), a
-        non-positive concentration, duplicated concentrations without a ``replicate`` column,
-        fewer than six points.
+        non-positive concentration or tension, duplicated concentrations without a
+        ``replicate`` column, fewer than six points.
+
+    Notes
+    -----
+    Units are converted once at reading (:mod:`sizing.labcsv`); a temperature column spanning
+    more than 1 K is averaged with a warning.  Six points is the floor: four below the CMC
+    for the isotherm and two on the plateau (common practice).
+
+    Examples
+    --------
+    >>> import pathlib, tempfile
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "t.csv"
+    >>> rows = [f"{c},{50 - i}" for i, c in enumerate([1, 3, 10, 30, 100, 300])]
+    >>> _ = p.write_text(chr(10).join(["concentration [uM],tension [mN/m]"] + rows))
+    >>> d = read_tension_csv(p)
+    >>> [round(float(v), 12) for v in d.concentration[:2]], round(float(d.tension[0]), 12)
+    ([0.001, 0.003], 0.05)
+
+    References
+    ----------
+    1. ISO 80000-1:2009, Quantities and units - Part 1: General (a quantity is a number times a
+       unit) [from memory].
     """
     table = read_lab_csv(
         path,
@@ -197,15 +339,54 @@ def model_tension(c, model, gamma0, max_surface_excess, adsorption_constant, cmc
 
     Parameters
     ----------
-    c : concentration [mol/m**3]; model : isotherm name; gamma0 : clean tension [N/m];
-    max_surface_excess : [mol/m**2]; adsorption_constant : [m**3/mol]; cmc : [mol/m**3] (inf
-    for no plateau); temperature : [K]; gibbs_prefactor : n [-]; beta : Frumkin interaction [-].
+    c : float or ndarray
+        Concentration [mol/m**3].
+    model : str
+        Isotherm name.
+    gamma0 : float
+        Clean tension [N/m].
+    max_surface_excess : float
+        Gamma_inf [mol/m**2].
+    adsorption_constant : float
+        K [m**3/mol].
+    cmc : float
+        [mol/m**3]; inf for no plateau.
+    temperature : float
+        T [K].
+    gibbs_prefactor : float
+        n [-].
+    beta : float
+        Frumkin interaction [-].
+
+    Returns
+    -------
+    ndarray
+        gamma [N/m].
+
+    Raises
+    ------
+    InputError
+        For an unknown isotherm or a Frumkin beta above 2.
+
+    Notes
+    -----
+    ``gamma(c) = gamma0 - Pi(theta(min(c, cmc)))`` with the equation of state of the isotherm
+    (:func:`sizing.physics.isotherm.pressure_of_theta`); the pseudo-phase model keeps the
+    monomer at the CMC above it, so the tension is flat there.
 
     Examples
     --------
-    >>> # worked Langmuir example: 4 umol/m2, K = 100 m3/mol, 25 C, c = 0.01 -> 6.8731 mN/m
-    >>> round(float(72e-3 - model_tension(0.01, "langmuir", 72e-3, 4e-6, 100.0, 1.0, 298.15)) * 1e3, 4)
-    6.8731
+    >>> # Langmuir: 4 umol/m2, K = 100 m3/mol, 25 C, c = 0.01 mol/m3 -> Pi = 6.873128303066 mN/m
+    >>> round(float(72e-3 - model_tension(0.01, "langmuir", 72e-3, 4e-6, 100.0, 1.0, 298.15)) * 1e3, 12)
+    6.873128303066
+    >>> round(float(model_tension(0.1, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)) * 1e3, 9)
+    19.033937156
+
+    References
+    ----------
+    1. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 [from memory].
+    2. Rosen, M. J. and Kunjappu, J. T., Surfactants and Interfacial Phenomena, 4th ed., Wiley
+       (2012), ch. 2 (the CMC as the break of tension against log c) [from memory].
     """
     c = np.minimum(np.asarray(c, dtype=float), cmc)
     theta = theta_of_c(c, adsorption_constant, model, beta)
@@ -371,8 +552,26 @@ def _summarise(data, model, best, names, lo, hi, fun, temperature, n, g0_fixed_m
 def select_model(fits: dict) -> tuple[str, str]:
     """Return the model the AICc rule picks and a sentence saying why.
 
-    The rule: among the models whose AICc is within 2 of the lowest, take the one with the
-    fewest parameters; among those with as many parameters, the lowest AICc.
+    Parameters
+    ----------
+    fits : dict
+        model -> fit with ``aicc`` [-] and ``fitted`` (the fitted parameter names).
+
+    Returns
+    -------
+    (str, str)
+        The model and the reason.
+
+    Raises
+    ------
+    ValueError
+        For an empty ``fits``.
+
+    Notes
+    -----
+    Among the models whose AICc is within 2 of the lowest, take the one with the fewest
+    parameters; among those with as many parameters, the lowest AICc [1].
+    ``AICc = n ln(RSS/n) + 2m + 2m(m + 1)/(n - m - 1)``, m counting the residual variance.
 
     Examples
     --------
@@ -382,6 +581,11 @@ def select_model(fits: dict) -> tuple[str, str]:
     'langmuir'
     >>> select_model({"langmuir": F(-100.0, 4), "frumkin": F(-104.0, 5)})[0]
     'frumkin'
+
+    References
+    ----------
+    1. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002), sec. 2.4 and 2.6 (AICc; models within about 2 units) [from memory].
     """
     low = min(f.aicc for f in fits.values())
     near = [m for m, f in fits.items() if f.aicc <= low + AICC_MARGIN]
@@ -403,9 +607,9 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
     temperature : float, optional
         [K]; by default the mean of the file's temperature column, else 298.15 K with a warning.
     gibbs_prefactor : float
-        n [-] of the Gibbs equation (1 nonionic, 2 a 1:1 ionic without salt).
+        n [-] of the Gibbs equation (1 nonionic, 2 a 1:1 ionic without salt), 0.5 to 3.
     model : str, optional
-        Force one of :data:`sizing.isotherm.MODELS`; by default the AICc rule picks.
+        Force one of :data:`sizing.physics.isotherm.MODELS`; by default the AICc rule picks.
     clean_tension : float, optional
         gamma0 [N/m] held fixed; fitted when None.
     bootstrap : int
@@ -420,8 +624,43 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
     Raises
     ------
     InputError
-        Bad data (see :func:`read_tension_csv`), too few points below (< 4) or above (< 2) the
-        fitted CMC, no plateau in the data, a bad option.
+        Bad data (see :func:`read_tension_csv`), fewer than 4 distinct concentrations, too few
+        points below (< 4) or above (< 2) the fitted CMC, no plateau in the data, a bad option.
+    CalculationError
+        No start of the least-squares fit ends on finite residuals (a numeric failure).
+
+    Notes
+    -----
+    Model: ``gamma = gamma0 - Pi(min(c, cmc))`` (:func:`model_tension`).  ``gamma0``,
+    ``ln Gamma_inf``, ``ln K``, Frumkin ``beta`` and ``log10 cmc`` are fitted together by
+    ``scipy.optimize.least_squares``, the breakpoint started in every gap between measured
+    concentrations [4].  Standard errors from ``cov = s**2 (J^T J)^-1`` with the analytic
+    Jacobian of the Gibbs equation (``dPi/dln(K c) = n R T Gamma_inf theta``), 95 % intervals
+    with Student's t on ``n - p`` degrees of freedom on the fitted scale [2]; models compared
+    by AICc (:func:`select_model`) [3]; optional residual bootstrap [5].  Valid for a single
+    surfactant below and at its CMC, equilibrium tensions, the Gibbs prefactor given.
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> {k: round(v, 9) for k, v in fit.best.params.items()}  # the generator back
+    {'clean_tension': 0.052, 'max_surface_excess': 3.3e-06, 'adsorption_constant': 850.0, 'interaction': 0.0, 'cmc': 0.065}
+
+    References
+    ----------
+    1. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the equation of state) [from memory].
+    2. Bates, D. M. and Watts, D. G., Nonlinear Regression Analysis and Its Applications, Wiley
+       (1988), ch. 2 (covariance ``s**2 (J^T J)^-1``, t-intervals) [from memory].
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002): AICc and the "within 2 units" rule of thumb [from memory].
+    4. Muggeo, V. M. R., "Estimating regression models with unknown break-points", Stat. Med. 22
+       (2003) 3055-3071, doi:10.1002/sim.1545 [from memory].
+    5. Efron, B. and Tibshirani, R. J., An Introduction to the Bootstrap, Chapman and Hall (1993),
+       ch. 9 (residual bootstrap) [from memory].
     """
     if not isinstance(data, TensionData):
         data = read_tension_csv(data)
@@ -528,7 +767,45 @@ def _bootstrap(data, best, names, lo, hi, temperature, n, g0_fixed_mn, count, se
 
 
 def fitted_curve(fit: TensionFit, model: str | None = None, points: int = 200):
-    """Return ``(c [mol/m**3], tension [N/m])`` of a fitted model on a log grid for plots."""
+    """Return ``(c [mol/m**3], tension [N/m])`` of a fitted model on a log grid for plots.
+
+    Parameters
+    ----------
+    fit : TensionFit
+    model : str, optional
+        One of ``fit.fits``; the model used by default.
+    points : int
+        Grid size; the grid spans the data widened by 0.3 decades each side.
+
+    Returns
+    -------
+    (ndarray, ndarray)
+        Concentrations [mol/m**3] and tensions [N/m].
+
+    Raises
+    ------
+    KeyError
+        For a model that was not fitted.
+
+    Notes
+    -----
+    Evaluates :func:`model_tension` with the fitted parameters.
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> gc, gt = fitted_curve(fit, points=5)
+    >>> gc.shape, round(float(gt[0]) * 1e3, 9)
+    ((5,), 49.096885654)
+
+    References
+    ----------
+    1. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 [from memory].
+    """
     f = fit.fits[model or fit.model]
     c = fit.data.concentration
     grid = np.logspace(math.log10(c[0]) - 0.3, math.log10(c[-1]) + 0.3, points)
@@ -539,5 +816,31 @@ def fitted_curve(fit: TensionFit, model: str | None = None, points: int = 200):
 
 
 def source_name(path) -> str:
-    """Return the file name of a data file (for provenance records)."""
+    """Return the file name of a data file (for provenance records).
+
+    Parameters
+    ----------
+    path : str or Path
+
+    Returns
+    -------
+    str
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    Only the name is recorded, never the folder (it may hold a user's name).
+
+    Examples
+    --------
+    >>> source_name("lab/x_tension.csv")
+    'x_tension.csv'
+
+    References
+    ----------
+    1. Python documentation, ``pathlib.PurePath.name``.
+    """
     return Path(path).name
