@@ -61,29 +61,55 @@ def surface_excess_by_difference(dose, continuous_volume, dispersed_volume, area
 
     Parameters
     ----------
-    dose : N [mol]; continuous_volume, dispersed_volume : V_c, V_d [m**3]; area : A [m**2];
-    continuous_concentration : c_c [mol/m**3]; dispersed_concentration : c_d [mol/m**3] (used
-    when ``partition_coefficient`` is None); ``*_sd`` : standard deviations, same units;
-    partition_coefficient : P [-]; where given (not NaN), ``c_d = P c_c`` replaces the
-    dispersed concentration.  All broadcast.
+    dose : float or ndarray
+        N, surfactant put in [mol].
+    continuous_volume, dispersed_volume : float or ndarray
+        V_c, V_d [m**3].
+    area : float or ndarray
+        A, interfacial area [m**2].
+    continuous_concentration : float or ndarray
+        c_c after equilibration [mol/m**3].
+    dispersed_concentration : float or ndarray
+        c_d [mol/m**3], used where ``partition_coefficient`` is None or NaN.
+    dose_sd, continuous_volume_sd, dispersed_volume_sd, area_sd, continuous_concentration_sd, dispersed_concentration_sd : float or ndarray
+        Standard deviations, same units as their quantities.
+    partition_coefficient : float or ndarray, optional
+        P [-]; where given (not NaN), ``c_d = P c_c`` replaces the dispersed concentration.
 
     Returns
     -------
-    (gamma, sd) : ndarrays [mol/m**2]
+    (gamma, sd) : tuple of ndarray
+        Gamma and its standard deviation [mol/m**2]; Gamma may be negative.
+
+    Raises
+    ------
+    None.
 
     Notes
     -----
-    ``Gamma = (N - c_c V_c - c_d V_d) / A``;
+    ``Gamma = (N - c_c V_c - c_d V_d) / A`` (a Gibbs relative excess; negative for a solute
+    depleted near the interface [1]);
     ``var = (sN**2 + (V_c + P V_d)**2 s_cc**2 + c_c**2 s_Vc**2 + c_d**2 s_Vd**2
     + V_d**2 s_cd**2) / A**2 + Gamma**2 (s_A / A)**2`` (P = 0 and s_cd from the column when
-    c_d is measured).
+    c_d is measured), first-order propagation of independent errors [2].
 
     Examples
     --------
     >>> # 10 umol into 100 mL water + 20 mL oil, 2 m2, 0.02 mM left in water, 0.05 mM in oil
     >>> g, s = surface_excess_by_difference(10e-6, 100e-6, 20e-6, 2.0, 0.02, 0.05)
-    >>> round(float(g) * 1e6, 9)   # umol/m2: (10 - 2 - 1) / 2
+    >>> round(float(g) * 1e6, 12)   # umol/m2: (10 - 2 - 1) / 2
     3.5
+
+    References
+    ----------
+    1. Weissenborn, P. K. and Pugh, R. J., "Surface tension of aqueous solutions of electrolytes:
+       relationship with ion hydration, oxygen solubility, and bubble coalescence", J. Colloid
+       Interface Sci. 184 (1996) 550-563, doi:10.1006/jcis.1996.0651 (negative excess of salts).
+    2. Taylor, J. R., An Introduction to Error Analysis, 2nd ed., University Science Books (1997),
+       ch. 3 (first-order propagation of independent errors) [from memory].
+    3. Orear, J., "Least squares when both variables have uncertainties", Am. J. Phys. 50 (1982)
+       912-916, doi:10.1119/1.12972 (effective variance) [from memory].
+    4. Langmuir, I., J. Am. Chem. Soc. 40 (1918) 1361-1403, doi:10.1021/ja02242a004 [from memory].
     """
     n, vc, vd, a, cc = (np.asarray(v, dtype=float) for v in
                         (dose, continuous_volume, dispersed_volume, area, continuous_concentration))
@@ -102,7 +128,37 @@ def surface_excess_by_difference(dose, continuous_volume, dispersed_volume, area
 
 @dataclass(frozen=True)
 class DepletionFit:
-    """Rows (dicts in SI, row order), Langmuir fits per sample, notes."""
+    """Hold the rows (dicts in SI, row order), Langmuir fits per sample and notes.
+
+    Attributes
+    ----------
+    path : str
+        The file read.
+    rows : list of dict
+        One per CSV row: ``row``, ``sample``, ``surface_excess_mol_m2`` [mol/m**2] and its
+        ``surface_excess_sd_mol_m2``, ``continuous_concentration_mol_m3``,
+        ``dispersed_concentration_mol_m3`` [mol/m**3], ``dispersed_basis``,
+        ``fraction_at_interface`` [-], ``notes``.
+    langmuir : dict
+        sample -> :func:`fit_langmuir_excess` result, or ``{"note": ...}`` why there is none.
+    notes : tuple of str
+
+    Examples
+    --------
+    >>> DepletionFit("runs.csv", [], {}, ()).rows
+    []
+
+    References
+    ----------
+    1. Weissenborn, P. K. and Pugh, R. J., "Surface tension of aqueous solutions of electrolytes:
+       relationship with ion hydration, oxygen solubility, and bubble coalescence", J. Colloid
+       Interface Sci. 184 (1996) 550-563, doi:10.1006/jcis.1996.0651 (negative excess of salts).
+    2. Taylor, J. R., An Introduction to Error Analysis, 2nd ed., University Science Books (1997),
+       ch. 3 (first-order propagation of independent errors) [from memory].
+    3. Orear, J., "Least squares when both variables have uncertainties", Am. J. Phys. 50 (1982)
+       912-916, doi:10.1119/1.12972 (effective variance) [from memory].
+    4. Langmuir, I., J. Am. Chem. Soc. 40 (1918) 1361-1403, doi:10.1021/ja02242a004 [from memory].
+    """
 
     path: str
     rows: list
@@ -120,13 +176,48 @@ def fit_depletion(path, *, partition_coefficient=None, continuous: str = "water"
         ``continuous_concentration`` (units in brackets) and optionally
         ``dispersed_concentration``, ``partition_coefficient``, ``*_sd``, ``sample``, ``notes``.
     partition_coefficient : float, optional
-        P [-] used for rows without a measured dispersed concentration (a column wins).
+        P = c_oil/c_water [-] for rows without a measured dispersed concentration (a column wins).
+    continuous : str
+        ``"water"`` (O/W runs, drops hold P c) or ``"oil"`` (W/O runs, drops hold c/P).
+
+    Returns
+    -------
+    DepletionFit
 
     Raises
     ------
     InputError
         A missing column or unit, a non-numeric or empty required cell, a non-positive area or
-        continuous volume, a negative dose, volume, concentration or standard deviation.
+        continuous volume, a negative dose, volume, concentration or standard deviation, P = 0
+        with a continuous oil.
+    CalculationError
+        A Langmuir fit that does not converge (see :func:`fit_langmuir_excess`).
+
+    Notes
+    -----
+    Per row :func:`surface_excess_by_difference`; negative values are kept and explained [1];
+    with at least four rows of positive excess per sample, :func:`fit_langmuir_excess`.
+
+    Examples
+    --------
+    >>> import pathlib, tempfile
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "runs.csv"
+    >>> head = ("dose [umol],continuous_volume [mL],dispersed_volume [mL],area [m**2],"
+    ...         "continuous_concentration [mM],dispersed_concentration [mM]")
+    >>> _ = p.write_text(chr(10).join([head, "10,100,20,2,0.02,0.05"]))
+    >>> round(fit_depletion(p).rows[0]["surface_excess_mol_m2"] * 1e6, 12)
+    3.5
+
+    References
+    ----------
+    1. Weissenborn, P. K. and Pugh, R. J., "Surface tension of aqueous solutions of electrolytes:
+       relationship with ion hydration, oxygen solubility, and bubble coalescence", J. Colloid
+       Interface Sci. 184 (1996) 550-563, doi:10.1006/jcis.1996.0651 (negative excess of salts).
+    2. Taylor, J. R., An Introduction to Error Analysis, 2nd ed., University Science Books (1997),
+       ch. 3 (first-order propagation of independent errors) [from memory].
+    3. Orear, J., "Least squares when both variables have uncertainties", Am. J. Phys. 50 (1982)
+       912-916, doi:10.1119/1.12972 (effective variance) [from memory].
+    4. Langmuir, I., J. Am. Chem. Soc. 40 (1918) 1361-1403, doi:10.1021/ja02242a004 [from memory].
     """
     t = read_lab_csv(path, _DIMS, required=())
     cols = dict(t.columns)
@@ -243,17 +334,34 @@ def fit_depletion(path, *, partition_coefficient=None, continuous: str = "water"
 def fit_langmuir_excess(c, gamma, sd=None, c_sd=None) -> dict:
     """Fit ``Gamma = Gamma_inf K c / (1 + K c)`` to (c [mol/m**3], Gamma [mol/m**2]).
 
-    Least squares (``scipy.optimize.curve_fit``) on ``ln Gamma_inf`` and ``ln K``, weighted when
-    every row has a standard deviation: ``sd`` of Gamma and, where given, ``c_sd`` of the
-    concentration through the effective variance ``sd**2 + (dGamma/dc c_sd)**2`` (two passes).
-    95 % intervals from the covariance (scaled by the residual scatter) with Student's t on the
-    log scale.
+    Parameters
+    ----------
+    c : array_like
+        Free concentrations, > 0 [mol/m**3].
+    gamma : array_like
+        Surface excesses, > 0 [mol/m**2].
+    sd : array_like, optional
+        Standard deviations of gamma [mol/m**2]; the fit is weighted when all are > 0.
+    c_sd : array_like, optional
+        Standard deviations of c [mol/m**3], through the effective variance.
 
     Returns
     -------
     dict
         ``max_surface_excess_mol_m2``, ``adsorption_constant_m3_mol``, ``intervals`` {same
         keys: [low, high]}, ``n_rows``, ``weighted``.
+
+    Raises
+    ------
+    CalculationError
+        When ``scipy.optimize.curve_fit`` does not converge.
+
+    Notes
+    -----
+    Least squares (``scipy.optimize.curve_fit``) on ``ln Gamma_inf`` and ``ln K`` [4], weighted
+    by ``sd**2 + (dGamma/dc c_sd)**2`` (effective variance [3], two passes); 95 % intervals from
+    the covariance scaled by the residual scatter with Student's t on the log scale.  Valid
+    for monolayer adsorption of one surfactant below its CMC.
 
     Examples
     --------
@@ -262,6 +370,17 @@ def fit_langmuir_excess(c, gamma, sd=None, c_sd=None) -> dict:
     >>> f = fit_langmuir_excess(c, g)
     >>> round(f["max_surface_excess_mol_m2"] * 1e6, 9), round(f["adsorption_constant_m3_mol"], 6)
     (3.0, 500.0)
+
+    References
+    ----------
+    1. Weissenborn, P. K. and Pugh, R. J., "Surface tension of aqueous solutions of electrolytes:
+       relationship with ion hydration, oxygen solubility, and bubble coalescence", J. Colloid
+       Interface Sci. 184 (1996) 550-563, doi:10.1006/jcis.1996.0651 (negative excess of salts).
+    2. Taylor, J. R., An Introduction to Error Analysis, 2nd ed., University Science Books (1997),
+       ch. 3 (first-order propagation of independent errors) [from memory].
+    3. Orear, J., "Least squares when both variables have uncertainties", Am. J. Phys. 50 (1982)
+       912-916, doi:10.1119/1.12972 (effective variance) [from memory].
+    4. Langmuir, I., J. Am. Chem. Soc. 40 (1918) 1361-1403, doi:10.1021/ja02242a004 [from memory].
     """
     from scipy.optimize import curve_fit
     from scipy.stats import t as student_t

@@ -36,7 +36,40 @@ AICC_MARGIN = 2.0
 
 @dataclass(frozen=True)
 class PartitionFit:
-    """The coefficient [-], its 95 % interval, the CMC used [mol/m**3] or None, per-row flags."""
+    """Hold the fitted partition coefficient, its interval, the CMC used and per-row flags.
+
+    Attributes
+    ----------
+    path : str
+        The file read.
+    partition_coefficient : float
+        P = c_oil/c_water of the monomer [-].
+    interval : (float, float)
+        95 % interval of P [-].
+    cmc : float or None
+        CMC used in the water [mol/m**3], None without one.
+    cmc_source : str
+        ``"given"``, ``"fitted"`` or ``"none"``.
+    rows : list of dict
+        One per CSV row: concentrations [mol/m**3], ``ratio`` [-], ``above_cmc``, ``flag``.
+    method : str
+        How P was estimated.
+    notes : tuple of str
+
+    Examples
+    --------
+    >>> PartitionFit("p.csv", 35.0, (30.0, 40.0), None, "none", [], "m", ()).partition_coefficient
+    35.0
+
+    References
+    ----------
+    1. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
+    2. Ben Ghoulam, M., Moatadid, N., Graciaa, A. and Lachaise, J., Langmuir 18 (2002) 4367
+       (partition of ethoxylated nonionics between alkanes and water).
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002) (AICc) [from memory].
+    """
 
     path: str
     partition_coefficient: float
@@ -49,13 +82,41 @@ class PartitionFit:
 
 
 def log_ratio_estimate(c_water, c_oil):
-    """Return ``(P, (low, high))``: geometric-mean ratio and its 95 % Student-t interval.
+    """Return ``(P, (low, high))``: the geometric-mean ratio and its 95 % Student-t interval.
+
+    Parameters
+    ----------
+    c_water, c_oil : array_like
+        Paired concentrations below the CMC, > 0 [mol/m**3].
+
+    Returns
+    -------
+    (float, (float, float))
+        P [-] and its interval [-] (nan with one point).
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    ``ln P = mean(ln(c_oil/c_water))``, interval ``exp(mean +- t s / sqrt(n))`` with Student's t
+    on n - 1 degrees of freedom: the ratio is constant below the CMC [1].
 
     Examples
     --------
-    >>> p, (lo, hi) = log_ratio_estimate([1.0, 2.0, 4.0], [2.0, 4.0, 8.0])
+    >>> p, (lo, hi) = log_ratio_estimate([1.0, 2.0, 4.0], [2.0, 4.4, 7.6])
     >>> round(p, 12), round(lo, 12), round(hi, 12)
-    (2.0, 2.0, 2.0)
+    (2.029560923261, 1.687102039285, 2.441534326504)
+
+    References
+    ----------
+    1. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
+    2. Ben Ghoulam, M., Moatadid, N., Graciaa, A. and Lachaise, J., Langmuir 18 (2002) 4367
+       (partition of ethoxylated nonionics between alkanes and water).
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002) (AICc) [from memory].
     """
     from scipy.stats import t as student_t
 
@@ -70,11 +131,40 @@ def log_ratio_estimate(c_water, c_oil):
 def origin_line_estimate(c_water, c_oil):
     """Return ``(P, (low, high))`` from the least-squares line ``c_oil = P c_water``.
 
+    Parameters
+    ----------
+    c_water, c_oil : array_like
+        Paired concentrations [mol/m**3]; oil values may be zero.
+
+    Returns
+    -------
+    (float, (float, float))
+        P [-] and its 95 % interval [-], the low end clipped at 0 (nan with one point).
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    ``P = sum(x y) / sum(x**2)``, ``se = sqrt(RSS/(n - 1) / sum(x**2))``, Student's t on n - 1
+    degrees of freedom; used when some oil concentrations are zero (an ionic against an
+    alkane) [1].
+
     Examples
     --------
-    >>> p, _ = origin_line_estimate([1.0, 2.0], [0.0, 0.0])
-    >>> p
-    0.0
+    >>> p, (lo, hi) = origin_line_estimate([1.0, 2.0, 3.0], [0.1, 0.2, 0.31])
+    >>> round(p, 12), round(lo, 12), round(hi, 12)
+    (0.102142857143, 0.097283506212, 0.107002208074)
+
+    References
+    ----------
+    1. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
+    2. Ben Ghoulam, M., Moatadid, N., Graciaa, A. and Lachaise, J., Langmuir 18 (2002) 4367
+       (partition of ethoxylated nonionics between alkanes and water).
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002) (AICc) [from memory].
     """
     from scipy.stats import t as student_t
 
@@ -92,8 +182,42 @@ def origin_line_estimate(c_water, c_oil):
 def fit_breakpoint(c_water, c_oil):
     """Fit ``ln c_oil = ln P + min(ln c_water, ln cmc)``; return (P, cmc, aicc_break, aicc_const).
 
-    The breakpoint is started in every gap leaving two points below and one above; the constant
-    ratio (one parameter) is the comparison.
+    Parameters
+    ----------
+    c_water, c_oil : array_like
+        Paired concentrations, > 0 [mol/m**3].
+
+    Returns
+    -------
+    (float or None, float or None, float, float)
+        P [-], cmc [mol/m**3], the AICc of the broken line and of a constant ratio [-]
+        (None, None, inf, AICc of the constant when there is no gap to start from).
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    The breakpoint is started in every gap leaving two points below and one above
+    (``scipy.optimize.least_squares``); the constant ratio (one parameter) is the comparison
+    by AICc [3].  Above the CMC the oil holds ``P cmc`` while the water's total keeps rising [1].
+
+    Examples
+    --------
+    >>> p, cmc, a_break, a_const = fit_breakpoint([0.01, 0.02, 0.04, 0.08, 0.16, 0.32],
+    ...                                           [0.35, 0.7, 1.4, 2.8, 2.8, 2.8])
+    >>> round(p, 9), round(cmc, 9), a_break < a_const
+    (35.0, 0.08, True)
+
+    References
+    ----------
+    1. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
+    2. Ben Ghoulam, M., Moatadid, N., Graciaa, A. and Lachaise, J., Langmuir 18 (2002) 4367
+       (partition of ethoxylated nonionics between alkanes and water).
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002) (AICc) [from memory].
     """
     from scipy.optimize import least_squares
 
@@ -136,11 +260,41 @@ def fit_partition(path, *, cmc=None) -> PartitionFit:
     cmc : float, optional
         [mol/m**3] of the water phase; points above it are flagged.  Fitted when None.
 
+    Returns
+    -------
+    PartitionFit
+
     Raises
     ------
     InputError
         A missing column or unit, an empty or non-numeric cell, a water concentration <= 0 or a
-        negative oil concentration, fewer than two points below the CMC.
+        negative oil concentration, a CMC <= 0, fewer than two points below the CMC.
+
+    Notes
+    -----
+    Below the CMC ``P = c_oil / c_water`` is constant [1]: :func:`log_ratio_estimate` (all
+    oil values > 0) or :func:`origin_line_estimate`; the CMC is given or the breakpoint of
+    :func:`fit_breakpoint`, kept only if it beats a constant ratio by more than 2 AICc units.
+    Valid for the monomer of one surfactant at equilibrium; P of order 1 to 1000 for low-EO
+    nonionics against alkanes, near 0 for ionics [2].
+
+    Examples
+    --------
+    >>> import pathlib, tempfile
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "p.csv"
+    >>> rows = ["0.001,0.035", "0.002,0.07", "0.004,0.14"]
+    >>> _ = p.write_text(chr(10).join(["water_concentration [mM],oil_concentration [mM]"] + rows))
+    >>> round(fit_partition(p, cmc=0.065).partition_coefficient, 9)
+    35.0
+
+    References
+    ----------
+    1. Laven, J., Open Colloid Sci. J. 4 (2011) 37: a constant oil/water ratio below the CMC;
+       surfactant added past the CMC stays in the water.
+    2. Ben Ghoulam, M., Moatadid, N., Graciaa, A. and Lachaise, J., Langmuir 18 (2002) 4367
+       (partition of ethoxylated nonionics between alkanes and water).
+    3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
+       Springer (2002) (AICc) [from memory].
     """
     t = read_lab_csv(path, {"water_concentration": "concentration", "oil_concentration": "concentration"},
                      required=("water_concentration", "oil_concentration"))
