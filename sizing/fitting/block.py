@@ -1,8 +1,8 @@
 """Lab data to parameters: the fitted ``[surfactant]`` block, its provenance and its plot.
 
-The fits themselves live in :mod:`sizing.fit_tension` (CMC and isotherm from a tension
-series), :mod:`sizing.fit_depletion` (surface excess by difference) and
-:mod:`sizing.fit_partition` (oil/water partition coefficient); this module re-exports them and
+The fits themselves live in :mod:`sizing.fitting.tension` (CMC and isotherm from a tension
+series), :mod:`sizing.fitting.depletion` (surface excess by difference) and
+:mod:`sizing.fitting.partition` (oil/water partition coefficient); this module re-exports them and
 writes what a case file can reference: a TOML file with a ``[surfactant]`` table (case keys only)
 and a ``[provenance]`` table, next to an SVG plot of the data, the fits and the residuals.
 """
@@ -58,8 +58,30 @@ def _text(value: float, name: str) -> str:
 def block_stem(csv_path) -> str:
     """Return the name of the fitted block for a data file: its stem without ``_tension``.
 
+    Parameters
+    ----------
+    csv_path : str or Path
+
+    Returns
+    -------
+    str
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    ``NAME_tension.csv`` gives ``NAME``; other names keep their stem.
+
+    Examples
+    --------
     >>> block_stem("lab/nonionic_tension.csv")
     'nonionic'
+
+    References
+    ----------
+    1. Python documentation, ``pathlib.PurePath.stem``.
     """
     stem = Path(csv_path).stem
     for suffix in ("_tension", "-tension"):
@@ -71,10 +93,48 @@ def block_stem(csv_path) -> str:
 def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: str | None = None) -> dict:
     """Return ``{"surfactant": {...}, "provenance": {...}}`` for a tension fit.
 
-    ``surfactant`` holds only case keys (isotherm, max_surface_excess, adsorption_constant,
-    interaction, gibbs_prefactor, cmc, clean_tension) as unit strings rounded to 6 significant
-    digits; ``provenance`` records the source, date, model, temperature, AICc table, 95 %
-    intervals (unit strings), the plot file name and notes.
+    Parameters
+    ----------
+    fit : TensionFit
+    plot : str, optional
+        File name of the plot, recorded in the provenance.
+    source_path : str, optional
+        Path of the source CSV relative to the block, recorded so the plot can be re-rendered.
+
+    Returns
+    -------
+    dict
+        ``surfactant`` holds only case keys (isotherm, max_surface_excess [umol/m**2],
+        adsorption_constant [m**3/mol], interaction [-], gibbs_prefactor [-], cmc [mM],
+        clean_tension [mN/m]) as unit strings rounded to 6 significant digits; ``provenance``
+        records the source, date, model, temperature, AICc table, 95 % intervals, the plot file
+        name and notes.
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    The values are those of :func:`fit_tension`'s model used; six digits keep a case file
+    readable and reproduce the fit to 5e-7 relative.
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> from sizing.fitting.tension import TensionData
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s_tension.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> surfactant_block(fit)["surfactant"]["cmc"]
+    '0.065 mM'
+
+    References
+    ----------
+    1. Tom Preston-Werner et al., TOML v1.0.0 specification (2021), https://toml.io/en/v1.0.0.
+    2. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the fitted equation of state)
+       [from memory].
     """
     b = fit.best
     p = b.params
@@ -127,9 +187,46 @@ def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: s
 def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> tuple[Path, Path]:
     """Write ``DIR/NAME.toml`` (the block) and ``DIR/NAME_tension_fit.svg`` (the plot), atomically.
 
+    Parameters
+    ----------
+    fit : TensionFit
+    out_dir : str or Path
+        Folder to write into (must exist).
+    name : str, optional
+        NAME; by default :func:`block_stem` of the data file.
+
     Returns
     -------
-    (toml_path, svg_path)
+    (toml_path, svg_path) : tuple of Path
+
+    Raises
+    ------
+    OSError
+        When the folder cannot be written; a failed run keeps the previous files.
+
+    Notes
+    -----
+    The plot is rendered first, so a failure writes nothing; each file is written to a
+    temporary file and renamed (:func:`sizing.files.write_atomic`).
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> from sizing.fitting.tension import TensionData
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s_tension.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> import tempfile
+    >>> toml_path, svg_path = write_fitted_block(fit, tempfile.mkdtemp())
+    >>> toml_path.name, svg_path.name
+    ('s.toml', 's_tension_fit.svg')
+
+    References
+    ----------
+    1. Tom Preston-Werner et al., TOML v1.0.0 specification (2021), https://toml.io/en/v1.0.0.
+    2. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the fitted equation of state)
+       [from memory].
     """
     import tomli_w
 
@@ -148,7 +245,42 @@ def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> 
 
 
 def tension_plot_svg(fit: TensionFit) -> str:
-    """Return an SVG plot: tension against log concentration with every model, CMC and residuals."""
+    """Return an SVG plot: tension against log concentration with every model, CMC and residuals.
+
+    Parameters
+    ----------
+    fit : TensionFit
+
+    Returns
+    -------
+    str
+        SVG text; tension in [mN/m], concentration in [mM] (= mol/m**3), residuals in [mN/m].
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    Deterministic output (fixed hash salt, no date) so that the same fit gives the same file.
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> from sizing.fitting.tension import TensionData
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s_tension.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> tension_plot_svg(fit).lstrip().startswith("<?xml")
+    True
+
+    References
+    ----------
+    1. W3C, Scalable Vector Graphics (SVG) 1.1, 2nd ed. (2011).
+    2. Hunter, J. D., "Matplotlib: a 2D graphics environment", Comput. Sci. Eng. 9 (2007) 90-95,
+       doi:10.1109/MCSE.2007.55 [from memory].
+    """
     import matplotlib
 
     matplotlib.use("Agg")
@@ -206,6 +338,29 @@ def plot_svg_for_provenance(toml_path) -> str | None:
     ------
     InputError
         The TOML file is missing or unreadable, or its source CSV no longer fits.
+
+    Notes
+    -----
+    The refit uses the recorded model, temperature, Gibbs prefactor and fixed clean tension.
+
+    Examples
+    --------
+
+    >>> import numpy as np
+    >>> from sizing.fitting.tension import TensionData
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s_tension.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> import tempfile
+    >>> toml_path, _ = write_fitted_block(fit, tempfile.mkdtemp())
+    >>> "<svg" in plot_svg_for_provenance(toml_path)
+    True
+
+    References
+    ----------
+    1. Tom Preston-Werner et al., TOML v1.0.0 specification (2021), https://toml.io/en/v1.0.0.
+    2. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the fitted equation of state)
+       [from memory].
     """
     import tomllib
 

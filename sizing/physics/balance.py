@@ -6,10 +6,10 @@ volume ``V_d`` [m**3], interfacial area ``A`` [m**2] and monomer concentration `
 
     N = c V_c + u c V_d + Gamma_inf theta(c) A + N_mic,     0 <= c <= CMC,
 
-where ``u`` is the dispersed uptake factor (:func:`sizing.phases.dispersed_uptake`) and
+where ``u`` is the dispersed uptake factor (:func:`sizing.physics.phases.dispersed_uptake`) and
 ``N_mic >= 0`` is non-zero only at ``c = CMC``.  Target -> dose is explicit; dose -> state is a
 monotone root, solved in ``y = logit(theta)`` where every isotherm is explicit
-(:func:`sizing.isotherm.lnkc_of_logit`), by a bracketed Newton iteration over the whole array.
+(:func:`sizing.physics.isotherm.lnkc_of_logit`), by a bracketed Newton iteration over the whole array.
 """
 
 from __future__ import annotations
