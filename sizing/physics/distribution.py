@@ -37,7 +37,33 @@ Z10, Z90 = norm.ppf(0.1), norm.ppf(0.9)
 
 @dataclass(frozen=True)
 class SizeStats:
-    """Mean diameters and volume percentiles of a size distribution [m]; nan where undefined."""
+    """Hold the mean diameters and volume percentiles of a size distribution [m]; nan where undefined.
+
+    Attributes
+    ----------
+    d32 : float or ndarray
+        Sauter mean diameter [m].
+    d10, d43 : float or ndarray
+        Number mean and De Brouckere mean diameters [m].
+    dv10, dv50, dv90 : float or ndarray
+        Volume percentiles [m].
+    notes : tuple of str
+        Warnings about the description (e.g. a table that does not add up).
+
+    Notes
+    -----
+    ``span = (dv90 - dv10)/dv50`` [-]; ``as_dict()`` gives plain floats, None where undefined.
+
+    Examples
+    --------
+    >>> SizeStats(2e-6).as_dict()["d32"], SizeStats(2e-6).as_dict()["span"]
+    (2e-06, None)
+
+    References
+    ----------
+    1. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2: Calculation
+       of average particle sizes/diameters and moments from particle size distributions.
+    """
 
     d32: object
     d10: object = np.nan
@@ -74,16 +100,40 @@ def lognormal_stats(median, gsd, basis: str = "number") -> SizeStats:
     Parameters
     ----------
     median : float or ndarray
-        Count median diameter (``basis="number"``) or volume median (``basis="volume"``) [m].
+        Count median diameter CMD (``basis="number"``) or volume median MMD (``basis="volume"``) [m].
     gsd : float or ndarray
         Geometric standard deviation, > 1 [-].
     basis : {"number", "volume"}
+
+    Returns
+    -------
+    SizeStats
+
+    Raises
+    ------
+    InputError
+        For an unknown basis.
+
+    Notes
+    -----
+    Hatch-Choate relations [1]: ``d_pq = CMD exp((p + q)/2 ln**2 gsd)``, so
+    ``d32 = CMD exp(2.5 ln**2 gsd)``, ``d10 = CMD exp(0.5 ln**2 gsd)``, ``d43 = CMD exp(3.5 ln**2
+    gsd)``, ``MMD = CMD exp(3 ln**2 gsd)``; volume percentiles ``MMD exp(z_p ln gsd)``.  Valid for
+    any gsd > 1 (exact for the log-normal).
 
     Examples
     --------
     >>> s = lognormal_stats(1e-6, 1.5)
     >>> [round(float(v) * 1e6, 5) for v in (s.d32, s.dv50, s.d43)]
     [1.50833, 1.63756, 1.77785]
+
+    References
+    ----------
+    1. Hatch, T. and Choate, S. P., "Statistical description of the size properties of non uniform
+       particulate substances", J. Franklin Inst. 207 (1929) 369-387,
+       doi:10.1016/S0016-0032(29)91451-4 [DOI from memory].
+    2. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2: Calculation
+       of average particle sizes/diameters and moments from particle size distributions.
     """
     median = np.asarray(median, dtype=float)
     s2 = np.log(np.asarray(gsd, dtype=float)) ** 2
@@ -102,7 +152,45 @@ def lognormal_stats(median, gsd, basis: str = "number") -> SizeStats:
 
 
 def lognormal_volume_density(median, gsd, basis: str, diameters):
-    """Return the volume density q3 per unit ln d [-] at ``diameters`` [m] (for plots)."""
+    """Return the volume density q3 per unit ln d [-] of a log-normal at ``diameters`` [m] (for plots).
+
+    Parameters
+    ----------
+    median : float
+        CMD or MMD [m] (see ``basis``).
+    gsd : float
+        Geometric standard deviation, > 1 [-].
+    basis : {"number", "volume"}
+    diameters : float or ndarray
+        [m].
+
+    Returns
+    -------
+    ndarray
+        ``q3 = phi(ln(d/MMD)/ln gsd) / ln gsd`` [-] (normal pdf phi), integrating to 1 over ln d.
+
+    Raises
+    ------
+    InputError
+        For an unknown basis.
+
+    Notes
+    -----
+    The volume distribution of a log-normal is log-normal with median MMD and the same gsd [1].
+
+    Examples
+    --------
+    >>> round(float(lognormal_volume_density(1e-6, 1.5, "number", 1.63756e-6)), 12)
+    0.983912727436
+
+    References
+    ----------
+    1. Hatch, T. and Choate, S. P., "Statistical description of the size properties of non uniform
+       particulate substances", J. Franklin Inst. 207 (1929) 369-387,
+       doi:10.1016/S0016-0032(29)91451-4 [DOI from memory].
+    2. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2: Calculation
+       of average particle sizes/diameters and moments from particle size distributions.
+    """
     s = lognormal_stats(median, gsd, basis)
     ls = np.log(gsd)
     d = np.asarray(diameters, dtype=float)
@@ -122,16 +210,32 @@ def rrsb_stats(characteristic_size, spread) -> SizeStats:
     spread : float or ndarray
         n, > 1 for a finite d32 [-]; d10 needs n > 3.
 
+    Returns
+    -------
+    SizeStats
+        nan where a moment diverges.
+
+    Raises
+    ------
+    None.
+
     Notes
     -----
     Volume moments ``int d**k q3 dd = d'**k Gamma(1 + k/n)``; the number-based moment of
-    order p is proportional to the volume moment of order p - 3.
+    order p is proportional to the volume moment of order p - 3, so ``d32 = d'/Gamma(1 - 1/n)``,
+    ``d43 = d' Gamma(1 + 1/n)``; percentiles ``d' (-ln(1 - p))**(1/n)`` [1, 2].
 
     Examples
     --------
     >>> s = rrsb_stats(100e-6, 2.0)
     >>> round(float(s.d32) * 1e6, 3), round(float(s.dv50) * 1e6, 4), round(float(s.span), 5)
     (56.419, 83.2555, 1.43274)
+
+    References
+    ----------
+    1. Rosin, P. and Rammler, E., "The laws governing the fineness of powdered coal", J. Inst. Fuel 7
+       (1933) 29-36 [from memory].
+    2. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2.
     """
     x = np.asarray(characteristic_size, dtype=float)
     n = np.asarray(spread, dtype=float)
@@ -147,7 +251,41 @@ def rrsb_stats(characteristic_size, spread) -> SizeStats:
 
 
 def rrsb_volume_density(characteristic_size, spread, diameters):
-    """Return q3 per unit ln d [-] of an RRSB distribution at ``diameters`` [m]."""
+    """Return q3 per unit ln d [-] of an RRSB distribution at ``diameters`` [m].
+
+    Parameters
+    ----------
+    characteristic_size : float
+        d' [m].
+    spread : float
+        n [-].
+    diameters : float or ndarray
+        [m].
+
+    Returns
+    -------
+    ndarray
+        ``q3 = n z exp(-z)``, ``z = (d/d')**n`` [-].
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    The derivative of ``Q3 = 1 - exp(-z)`` with respect to ln d [1].
+
+    Examples
+    --------
+    >>> round(float(rrsb_volume_density(100e-6, 2.0, 100e-6)), 12)  # 2/e
+    0.735758882343
+
+    References
+    ----------
+    1. Rosin, P. and Rammler, E., "The laws governing the fineness of powdered coal", J. Inst. Fuel 7
+       (1933) 29-36 [from memory].
+    2. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2.
+    """
     z = (np.asarray(diameters, dtype=float) / characteristic_size) ** spread
     return spread * z * np.exp(-z)
 
@@ -157,11 +295,33 @@ def rrsb_volume_density(characteristic_size, spread, diameters):
 
 @dataclass(frozen=True)
 class SizeTable:
-    """Size classes ``[lower, upper]`` [m] with their volume fractions (summing to 1) [-].
+    """Hold size classes ``[lower, upper]`` [m] with their volume fractions (summing to 1) [-].
 
-    ``basis`` says how the table was measured: ``"volume"`` (volume density taken uniform in
-    ln d inside a class) or ``"count"`` (number density uniform in ln d inside a class, with
-    ``number_fraction`` the share of drops per class).
+    Attributes
+    ----------
+    lower, upper : ndarray
+        Class limits [m].
+    volume_fraction : ndarray
+        Share of the drop volume per class [-], sum 1.
+    source : str
+        The file read, for messages.
+    basis : str
+        ``"volume"`` (volume density taken uniform in ln d inside a class) or ``"count"``
+        (number density uniform in ln d, with ``number_fraction`` the share of drops per class).
+    number_fraction : ndarray or None
+    notes : tuple of str
+
+    Examples
+    --------
+    >>> t = table_from_columns({"lower": np.array([1e-6, 2e-6]), "upper": np.array([2e-6, 4e-6]),
+    ...                         "volume": np.array([50.0, 50.0])}, "t.csv")
+    >>> t.volume_fraction.tolist(), t.basis
+    ([0.5, 0.5], 'volume')
+
+    References
+    ----------
+    1. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2: Calculation
+       of average particle sizes/diameters and moments from particle size distributions.
     """
 
     lower: np.ndarray
@@ -184,14 +344,42 @@ def _mean_power(a, b, m):
 def table_from_columns(columns: dict, source: str = "") -> SizeTable:
     """Build a :class:`SizeTable` from SI columns of a lab CSV.
 
-    Accepted layouts (sizes in metres, fractions as read):
+    Parameters
+    ----------
+    columns : dict
+        Column name -> ndarray, sizes in metres, amounts as read.  Accepted layouts:
+        ``lower``, ``upper``, ``volume`` (per-class volume %, any total; normalised);
+        ``upper``, ``volume`` (the first class starts at upper_0**2/upper_1, the geometric step);
+        ``size``, ``undersize`` (cumulative volume % below each size, increasing);
+        ``lower``/``upper`` or ``upper`` with ``count`` (number per class; volume by integration).
+    source : str
+        File name for messages.
 
-    - ``lower``, ``upper``, ``volume`` (per-class volume %, any total; normalised)
-    - ``upper``, ``volume`` (the first class starts at upper_0**2/upper_1, the geometric step)
-    - ``size``, ``undersize`` (cumulative volume % below each size, increasing)
-    - ``lower``/``upper`` or ``upper`` with ``count`` (number per class; volume by integration)
+    Returns
+    -------
+    SizeTable
 
-    A volume column that does not add up to 100 (or 1) is rescaled and noted in ``notes``.
+    Raises
+    ------
+    InputError
+        A missing column, sizes that do not increase, negative or non-numeric amounts, a table
+        with no drops.
+
+    Notes
+    -----
+    A volume column that does not add up to 100 (or 1) is rescaled and noted in ``notes``;
+    count classes are turned into volume with ``<d**3>`` over the class, uniform in ln d [1].
+
+    Examples
+    --------
+    >>> t = table_from_columns({"upper": np.array([1e-6, 2e-6, 4e-6]), "volume": np.array([20.0, 50.0, 30.0])})
+    >>> round(float(t.lower[0]) * 1e6, 12), t.volume_fraction.tolist()
+    (0.5, [0.2, 0.5, 0.3])
+
+    References
+    ----------
+    1. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2: Calculation
+       of average particle sizes/diameters and moments from particle size distributions.
     """
     notes: list[str] = []
 
@@ -255,11 +443,39 @@ def table_from_columns(columns: dict, source: str = "") -> SizeTable:
 def table_stats(table: SizeTable) -> SizeStats:
     """Return the statistics of a measured size table, integrating inside each class.
 
+    Parameters
+    ----------
+    table : SizeTable
+
+    Returns
+    -------
+    SizeStats
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
     Volume tables: volume density uniform in ln d inside a class, number moments
-    ``M_k ~ sum_i w_i <d**(k-3)>_i``.  Count tables: number density uniform in ln d inside a
-    class, ``M_k ~ sum_i n_i <d**k>_i``.  ``d10 = M1/M0``, ``d32 = M3/M2``, ``d43 = M4/M3``;
-    volume percentiles invert the cumulative volume inside the class where it is reached
-    (``x = a (b/a)**f`` for volume tables, ``x**3 = a**3 + f (b**3 - a**3)`` for count tables).
+    ``M_k ~ sum_i w_i <d**(k-3)>_i``, so ``1/d32 = sum_i w_i (1/a_i - 1/b_i)/ln(b_i/a_i)``.
+    Count tables: number density uniform in ln d inside a class, ``M_k ~ sum_i n_i <d**k>_i``.
+    ``d10 = M1/M0``, ``d32 = M3/M2``, ``d43 = M4/M3``; volume percentiles invert the cumulative
+    volume inside the class where it is reached (``x = a (b/a)**f`` for volume tables,
+    ``x**3 = a**3 + f (b**3 - a**3)`` for count tables) [1].
+
+    Examples
+    --------
+    >>> t = table_from_columns({"lower": np.array([1e-6, 2e-6]), "upper": np.array([2e-6, 4e-6]),
+    ...                         "volume": np.array([50.0, 50.0])})
+    >>> s = table_stats(t)
+    >>> round(float(s.d32) * 1e6, 12), round(float(s.dv50) * 1e6, 12)
+    (1.848392481493, 2.0)
+
+    References
+    ----------
+    1. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2: Calculation
+       of average particle sizes/diameters and moments from particle size distributions.
     """
     a, b, w = table.lower, table.upper, table.volume_fraction
     if table.basis == "count":
@@ -296,13 +512,37 @@ def interfacial_area(d32, dispersed_volume, shape_factor=1.0):
 
     Parameters
     ----------
-    d32 : Sauter mean diameter [m]; dispersed_volume : V_d [m**3];
-    shape_factor : s, area against spheres of equal volume [-] (1 for spheres, about 1.1 for a
-        dry polyhedral foam).
+    d32 : float or ndarray
+        Sauter mean diameter [m].
+    dispersed_volume : float or ndarray
+        V_d [m**3].
+    shape_factor : float or ndarray
+        s, area against spheres of equal volume [-] (1 for spheres, about 1.1 for a dry
+        polyhedral foam).
+
+    Returns
+    -------
+    ndarray
+        A [m**2].
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    For spheres the area per dispersed volume is 6/d32 by the definition of d32 = M3/M2 [1];
+    dry foam cells: Kelvin's tetrakaidecahedron 1.0970 [2].
 
     Examples
     --------
     >>> round(float(interfacial_area(1e-6, 0.2)), 6)  # phi = 0.2 in 1 m**3, d32 = 1 um
     1200000.0
+
+    References
+    ----------
+    1. ISO 9276-2:2014, Representation of results of particle size analysis - Part 2.
+    2. Princen, H. M. and Levinson, P., J. Colloid Interface Sci. 120 (1987) 172 [citation from
+       memory].
     """
     return np.asarray(shape_factor) * 6.0 * np.asarray(dispersed_volume) / np.asarray(d32)
