@@ -64,17 +64,42 @@ UNITS = {"pressure": "Pa", "energy_density": "J/m**3", "tip_speed": "m/s"}
 
 @dataclass(frozen=True)
 class PowerLawFit:
-    """A fitted ``d32 = C X**b``.
+    """Hold a fitted ``d32 = C X**b``.
 
     Attributes
     ----------
-    prefactor : C [m / X_unit**b]; exponent : b [-]
-    prefactor_interval, exponent_interval : 95 % intervals (None where not estimable)
-    exponent_is_default : b was not fitted (one point, or fixed in the case)
-    exponent_source : where a default or fixed b comes from
-    n_points, dof : number of lab points, residual degrees of freedom
-    residual_sd_ln : standard deviation of the ln d32 residuals [-] (nan when dof = 0)
-    x_range : (min, max) of the lab X [SI]
+    prefactor : float
+        C [m / X_unit**b].
+    exponent : float
+        b [-].
+    prefactor_interval, exponent_interval : tuple or None
+        95 % intervals (None where not estimable).
+    exponent_is_default : bool
+        b was not fitted (one point) and is the variable's default.
+    exponent_source : str
+        Where b comes from.
+    n_points, dof : int
+        Number of lab points and residual degrees of freedom.
+    residual_sd_ln : float
+        Standard deviation of the ln d32 residuals [-] (nan when dof = 0).
+    x_range : (float, float)
+        (min, max) of the lab X [SI of the variable].
+    variable : str
+        ``pressure`` [Pa], ``energy_density`` [J/m**3] or ``tip_speed`` [m/s].
+
+    Examples
+    --------
+    >>> fit_power_law([5e7], [2e-6]).exponent_is_default
+    True
+
+    References
+    ----------
+    1. Walstra, P., "Principles of emulsion formation", Chem. Eng. Sci. 48 (1993) 333-349,
+       doi:10.1016/0009-2509(93)80021-H (d32 against homogenising pressure, exponents about
+       -0.6 to -0.9) [from memory].
+    2. Montgomery, D. C. and Runger, G. C., Applied Statistics and Probability for Engineers,
+       Wiley, ch. 11 (simple linear regression: t-intervals and prediction intervals)
+       [from memory].
     """
 
     prefactor: float
@@ -97,10 +122,15 @@ def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLaw
 
     Parameters
     ----------
-    x : array [SI of the variable]; d32 : array [m], one per lab point
-    exponent : b [-] to hold fixed; None fits it (two or more points) or takes the default
-        of ``variable`` (one point)
-    variable : 'pressure', 'energy_density' or 'tip_speed' (chooses the default exponent)
+    x : array_like
+        Process variable of each lab point [Pa, J/m**3 or m/s, per ``variable``].
+    d32 : array_like
+        Sauter mean diameter of each lab point [m].
+    exponent : float, optional
+        b [-] to hold fixed; None fits it (two or more points) or takes the default of
+        ``variable`` (one point).
+    variable : str
+        ``"pressure"``, ``"energy_density"`` or ``"tip_speed"`` (chooses the default exponent).
 
     Returns
     -------
@@ -109,19 +139,29 @@ def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLaw
     Raises
     ------
     InputError
-        Non-positive values, or the exponent cannot be fitted.
+        Non-positive values, or a mismatch between X and d32.
 
     Notes
     -----
     ``ln d32 = ln C + b ln X`` by ordinary least squares (``scipy.stats.linregress``); with the
     exponent fixed, ``ln C`` is the mean of ``ln d32 - b ln X``.  Intervals use Student's t with
-    the residual degrees of freedom (n - 2, or n - 1 with b fixed).
+    the residual degrees of freedom (n - 2, or n - 1 with b fixed) [2].  Valid inside the lab
+    range of X and one homogeniser type; homogenisers report b from -0.6 to -0.9 [1].
 
     Examples
     --------
     >>> f = fit_power_law([1e7, 4e7, 1.6e8], [4e-6, 1.74110112659e-6, 7.5785828326e-7])
     >>> round(f.exponent, 9), f.exponent_is_default
     (-0.6, False)
+
+    References
+    ----------
+    1. Walstra, P., "Principles of emulsion formation", Chem. Eng. Sci. 48 (1993) 333-349,
+       doi:10.1016/0009-2509(93)80021-H (d32 against homogenising pressure, exponents about
+       -0.6 to -0.9) [from memory].
+    2. Montgomery, D. C. and Runger, G. C., Applied Statistics and Probability for Engineers,
+       Wiley, ch. 11 (simple linear regression: t-intervals and prediction intervals)
+       [from memory].
     """
     from scipy import stats
 
@@ -175,11 +215,44 @@ def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLaw
 
 
 def predict_power_law(fit: PowerLawFit, x):
-    """Return ``(d32, lo, hi, band_method)`` at X [SI] (arrays broadcast over ``x``) [m].
+    """Return ``(d32, lo, hi, band_method)`` at X (arrays broadcast over ``x``).
 
-    The band is the 95 % prediction interval of ln d32 when the residuals give a scatter
-    (``dof > 0``), else the predictions over the exponent window of the variable, pivoting on
-    the lab point nearest in ln X, together with the fitted prediction.
+    Parameters
+    ----------
+    fit : PowerLawFit
+    x : float or ndarray
+        Process variable at the plant [SI of ``fit.variable``].
+
+    Returns
+    -------
+    (ndarray, ndarray, ndarray, str)
+        d32, the low and high ends of its band [m], and how the band was made.
+
+    Raises
+    ------
+    None.
+
+    Notes
+    -----
+    The band is the 95 % prediction interval of ln d32,
+    ``t s sqrt(1 + 1/n + (ln X - mean ln X)**2 / Sxx)``, when the residuals give a scatter
+    (``dof > 0``) [2]; else the predictions over the exponent window of the variable, pivoting
+    on the lab point nearest in ln X, together with the fitted prediction [1].
+
+    Examples
+    --------
+    >>> d, lo, hi, how = predict_power_law(fit_power_law([5e7], [2e-6]), 1e8)  # b = -0.6 default
+    >>> round(float(d) * 1e6, 12), round(float(lo) * 1e6, 12)  # window down to b = -0.9
+    (1.319507910773, 1.071773462536)
+
+    References
+    ----------
+    1. Walstra, P., "Principles of emulsion formation", Chem. Eng. Sci. 48 (1993) 333-349,
+       doi:10.1016/0009-2509(93)80021-H (d32 against homogenising pressure, exponents about
+       -0.6 to -0.9) [from memory].
+    2. Montgomery, D. C. and Runger, G. C., Applied Statistics and Probability for Engineers,
+       Wiley, ch. 11 (simple linear regression: t-intervals and prediction intervals)
+       [from memory].
     """
     from scipy import stats
 
@@ -215,16 +288,44 @@ def predict_power_law(fit: PowerLawFit, x):
 def stirred_tank_speed(lab_diameter, lab_speed, plant_diameter, rule: str, plant_speed=None):
     """Return the plant impeller speed N_p [1/s] under a geometric scale-up rule.
 
+    Parameters
+    ----------
+    lab_diameter, plant_diameter : float or ndarray
+        Impeller diameters D_l, D_p [m].
+    lab_speed : float or ndarray
+        N_l [1/s].
+    rule : str
+        One of :data:`RULES`.
+    plant_speed : float or ndarray, optional
+        N_p [1/s] for ``rule = "given_speed"``.
+
+    Returns
+    -------
+    ndarray
+        N_p [1/s].
+
+    Raises
+    ------
+    InputError
+        For an unknown rule, or ``given_speed`` without a plant speed.
+
     Notes
     -----
     Geometric similarity, turbulent regime (power number constant): power per volume
     ``P/V ~ N**3 D**2``; tip speed ``pi N D``.  So constant P/V gives ``N_p = N_l (D_l/D_p)**(2/3)``,
-    constant tip speed ``N_p = N_l D_l/D_p``, constant speed ``N_p = N_l`` [common practice].
+    constant tip speed ``N_p = N_l D_l/D_p``, constant speed ``N_p = N_l`` [2; common practice].
 
     Examples
     --------
     >>> round(float(stirred_tank_speed(0.1, 10.0, 0.8, "constant_tip_speed")), 12)
     1.25
+
+    References
+    ----------
+    1. Chen, H. T. and Middleman, S., "Drop size distribution in agitated liquid-liquid systems",
+       AIChE J. 13 (1967) 989-995, doi:10.1002/aic.690130529 [from memory].
+    2. Paul, E. L., Atiemo-Obeng, V. A. and Kresta, S. M. (eds.), Handbook of Industrial Mixing,
+       Wiley (2004), ch. 12 (scale-up of liquid-liquid dispersions) [from memory].
     """
     d_l, n_l, d_p = (np.asarray(v, dtype=float) for v in (lab_diameter, lab_speed, plant_diameter))
     if rule == "constant_power_per_volume":
@@ -243,17 +344,44 @@ def stirred_tank_speed(lab_diameter, lab_speed, plant_diameter, rule: str, plant
 def stirred_tank_ratio(lab_diameter, lab_speed, plant_diameter, plant_speed, weber_exponent=-0.6):
     """Return d32_plant / d32_lab [-] for geometrically similar stirred tanks.
 
+    Parameters
+    ----------
+    lab_diameter, plant_diameter : float or ndarray
+        Impeller diameters D_l, D_p [m].
+    lab_speed, plant_speed : float or ndarray
+        N_l, N_p [1/s].
+    weber_exponent : float or ndarray
+        a [-], -0.6 for the inertial break-up regime.
+
+    Returns
+    -------
+    ndarray
+        d32_plant / d32_lab [-].
+
+    Raises
+    ------
+    None.
+
     Notes
     -----
-    ``d32/D = C1 (1 + C2 phi) We**a``, ``We = rho_c N**2 D**3/sigma`` (Chen and Middleman 1967,
-    a = -0.6 [from memory]); same fluids and phi, so
-    ``ratio = (D_p/D_l) ((N_p/N_l)**2 (D_p/D_l)**3)**a``.
+    ``d32/D = C1 (1 + C2 phi) We**a``, ``We = rho_c N**2 D**3/sigma``, a = -0.6 [1]; same fluids
+    and phi, so ``ratio = (D_p/D_l) ((N_p/N_l)**2 (D_p/D_l)**3)**a``.  Valid for dilute to
+    moderate phi in the turbulent regime, break-up limited (not coalescence).
 
     Examples
     --------
     >>> n_p = stirred_tank_speed(0.1, 10.0, 0.8, "constant_power_per_volume")
     >>> round(float(stirred_tank_ratio(0.1, 10.0, 0.8, n_p)), 12)
     1.0
+    >>> round(float(stirred_tank_ratio(0.1, 10.0, 0.8, 1.25)), 12)  # constant tip speed: 8**0.4
+    2.297396709994
+
+    References
+    ----------
+    1. Chen, H. T. and Middleman, S., "Drop size distribution in agitated liquid-liquid systems",
+       AIChE J. 13 (1967) 989-995, doi:10.1002/aic.690130529 [from memory].
+    2. Paul, E. L., Atiemo-Obeng, V. A. and Kresta, S. M. (eds.), Handbook of Industrial Mixing,
+       Wiley (2004), ch. 12 (scale-up of liquid-liquid dispersions) [from memory].
     """
     d_l, n_l, d_p, n_p, a = (np.asarray(v, dtype=float)
                              for v in (lab_diameter, lab_speed, plant_diameter, plant_speed, weber_exponent))
