@@ -30,6 +30,7 @@ from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationEr
 
 from .constants import AVOGADRO, SHAPE_FACTORS
 from .errors import InputError
+from .files import inside, read_regular, token
 from .labcsv import read_lab_csv
 from .physics import distribution
 from .physics.dropsize import RULES, VARIABLES
@@ -603,28 +604,35 @@ def format_errors(exc: ValidationError) -> list[str]:
     return lines
 
 
+MAX_FITTED_BYTES = 1024 * 1024  # a fitted block is a few kB of TOML
+
+
 def _merge_from(data: dict, base_dir: Path | None) -> dict | None:
     """Merge a fitted ``[surfactant]`` block named by ``surfactant.from``; return its provenance."""
     surf = data.get("surfactant")
     if not isinstance(surf, dict) or "from" not in surf:
         return None
     ref = surf["from"]
-    path = Path(str(ref))
-    if not path.is_absolute() and base_dir is not None:
-        path = base_dir / path
-    if not path.exists():
-        raise InputError(f"surfactant.from: file not found {str(ref)!r} (looked for {path})")
+    if not isinstance(ref, str):
+        raise InputError(f"surfactant.from: expected the file name of a fitted block (text), "
+                         f"got {type(ref).__name__}")
+    path = inside(ref, base_dir, "surfactant.from")
+    raw = read_regular(path, "surfactant.from", MAX_FITTED_BYTES)
     try:
-        fitted = tomllib.loads(path.read_text(encoding="utf-8"))
+        fitted = tomllib.loads(raw.decode("utf-8-sig"))
+    except UnicodeDecodeError:
+        raise InputError(f"surfactant.from: {token(ref, 80)} is not UTF-8 text; expected a fitted "
+                         "block written by 'sizing fit'") from None
     except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"surfactant.from: {str(ref)!r} is not valid TOML ({exc})") from exc
+        raise InputError(f"surfactant.from: {token(ref, 80)} is not valid TOML ({exc})") from None
     block = fitted.get("surfactant")
     if not isinstance(block, dict):
-        raise InputError(f"surfactant.from: {str(ref)!r} has no [surfactant] table")
+        raise InputError(f"surfactant.from: {token(ref, 80)} has no [surfactant] table")
     merged = dict(block)
     merged.update(surf)  # the case's own keys win
     data["surfactant"] = merged
-    prov = dict(fitted.get("provenance", {}))
+    prov = fitted.get("provenance", {})
+    prov = dict(prov) if isinstance(prov, dict) else {}
     prov["file"] = str(path)
     prov["keys_from_file"] = sorted(k for k in block if k not in surf)
     return prov
@@ -756,9 +764,14 @@ def case_with(case: Case, updates: dict[str, Any]) -> Case:
 
 
 def table_path(file: str, base: Path | None) -> Path:
-    """Resolve a size-table path relative to the case file's folder."""
-    p = Path(file)
-    return p if p.is_absolute() or base is None else (base / p)
+    """Resolve a size-table path inside the case file's folder (symlinks resolved).
+
+    Raises
+    ------
+    InputError
+        ``drops.file`` is empty or points outside the case file's folder.
+    """
+    return inside(file, base, "drops.file")
 
 
 def read_size_table(path) -> distribution.SizeTable:

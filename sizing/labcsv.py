@@ -20,6 +20,7 @@ from pathlib import Path
 import numpy as np
 
 from .errors import InputError
+from .files import MAX_TOKEN, read_regular, token
 from .units import DIMENSIONS, parse
 
 _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*(?:\[\s*([^\]]*)\s*\])?\s*$")
@@ -30,6 +31,7 @@ _SEPARATOR_NAMES = {",": "','", ";": "';'", "\t": "a tab"}
 _GENERIC_EXAMPLE = "'upper [um]' or 'tension [mN/m]'"
 _LISTED = 3  # non-numeric cells listed one by one per column before summarising
 MAX_BYTES = 5 * 1024 * 1024
+MAX_HEADER = 40  # characters of a header cell quoted in a message (cell values: MAX_TOKEN = 20)
 
 
 @dataclass(frozen=True)
@@ -74,7 +76,7 @@ def split_header(cell: str, example: str | None = None) -> tuple[str, str]:
     m = _HEADER.match(str(cell))
     if not m:
         shown = f"'{example}'" if example else _GENERIC_EXAMPLE
-        raise InputError(f"header cell {cell!r}: expected 'name [unit]', e.g. {shown}")
+        raise InputError(f"header cell {token(cell, MAX_HEADER)}: expected 'name [unit]', e.g. {shown}")
     return m.group(1).strip().lower().replace(" ", "_"), (m.group(2) or "").strip()
 
 
@@ -126,7 +128,7 @@ def _split_decimal(cells: list[str]) -> str | None:
 
 
 def _fix_hint(sample: str) -> str:
-    return (f"values like {sample!r} use a decimal comma; write '.' as the decimal point, "
+    return (f"values like {token(sample)} use a decimal comma; write '.' as the decimal point, "
             "or save the CSV with ';' as the separator")
 
 
@@ -172,14 +174,7 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     [0.5, 0.0702]
     """
     p = Path(path)
-    if not p.exists():
-        raise InputError(f"{p}: file not found")
-    if p.stat().st_size > MAX_BYTES:
-        raise InputError(f"{p}: the file is {p.stat().st_size / 1e6:.1f} MB; at most 5 MB is accepted")
-    try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise InputError(f"{p}: cannot read as CSV ({exc})") from exc
+    raw = read_regular(p, str(p), MAX_BYTES)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
@@ -187,7 +182,7 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         try:
             text = raw.decode("cp1252")
         except UnicodeDecodeError as exc:
-            raise InputError(f"{p}: cannot read as text (neither UTF-8 nor Windows-1252): {exc}") from exc
+            raise InputError(f"{p}: cannot read as text (neither UTF-8 nor Windows-1252)") from exc
     sep = detect_separator(_header_line(text))
     width = max((line.count(sep) for line in text.splitlines()), default=0) + 1
     try:
@@ -196,7 +191,7 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         grid = pd.read_csv(io.StringIO(text), sep=sep, header=None, names=range(width), dtype=str,
                            skip_blank_lines=True, comment="#", keep_default_na=False)
     except Exception as exc:
-        raise InputError(f"{p}: cannot read as CSV ({exc})") from exc
+        raise InputError(f"{p}: cannot read as CSV ({str(exc)[:120]})") from exc
     grid = grid.fillna("")
     if grid.shape[0] == 0:
         raise InputError(f"{p}: no data rows below the header")
@@ -240,7 +235,7 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
             continue
         if name in seen:
             if name in dimensions or name in required:
-                problems.append(f"{p}: columns {seen[name]!r} and {cell!r} are both '{name}'; "
+                problems.append(f"{p}: columns {token(seen[name], MAX_HEADER)} and {token(cell, MAX_HEADER)} are both {token(name)}; "
                                 "expected each column once")
                 continue
             k = 1
@@ -264,7 +259,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         dim = dimensions.get(name)
         if dim and dim != "dimensionless" and not unit:
             problems.append(
-                f"{p}: column {cell!r} has no unit; write it in brackets, e.g. '{name} [unit]'"
+                f"{p}: column {token(cell, MAX_HEADER)} has no unit; write it in brackets, e.g. "
+                f"'{name if len(name) <= MAX_TOKEN else 'name'} [unit]'"
             )
             continue
         numbers = np.full(len(series), np.nan)
@@ -282,17 +278,21 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         if comma:
             i, cell_text = comma[0]
             count = f" ({len(comma)} cells)" if len(comma) > 1 else ""
-            problems.append(f"{p}: column {cell!r}, from row {i + 2}{count}: {_fix_hint(cell_text)}")
+            problems.append(f"{p}: column {token(cell, MAX_HEADER)}, from row {i + 2}{count}: {_fix_hint(cell_text)}")
         for i, cell_text in bad[:_LISTED]:
-            problems.append(f"{p}: row {i + 2}, column {cell!r}: {cell_text!r} is not a number")
+            problems.append(f"{p}: row {i + 2}, column {token(cell, MAX_HEADER)}: {token(cell_text)} is not a number")
         if len(bad) > _LISTED:
-            problems.append(f"{p}: column {cell!r}: ... and {len(bad) - _LISTED} more in this "
+            problems.append(f"{p}: column {token(cell, MAX_HEADER)}: ... and {len(bad) - _LISTED} more in this "
                             f"column (up to row {bad[-1][0] + 2}) that are not numbers")
         if comma or bad:
             continue
         values = numbers
         if dim and unit:
-            field = f"{p}: column {cell!r}"
+            field = f"{p}: column {token(cell, MAX_HEADER)}"
+            if len(unit) > MAX_TOKEN:
+                problems.append(f"{field}: the unit text is {len(unit)} characters long; expected a "
+                                "short unit such as 'mN/m' or 'um'")
+                continue
             try:
                 if dim == "temperature":  # offset units: convert each value
                     values = np.array([parse(f"{x} {unit}", field, dim) if np.isfinite(x) else np.nan
@@ -307,7 +307,7 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     missing = [c for c in required if c not in present]
     if missing:
         problems.append(
-            f"{p}: missing column(s) {', '.join(missing)}; found {', '.join(present) or 'none'}"
+            f"{p}: missing column(s) {', '.join(missing)}; found {', '.join(c if len(c) <= MAX_TOKEN and c.isprintable() else token(c) for c in present) or 'none'}"
         )
     if problems:
         raise InputError(problems=problems)

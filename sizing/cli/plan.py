@@ -1,9 +1,8 @@
 """``sizing plan [CASE] [--out DIR]``: the recommendation, the trial matrix and the report.
 
 Writes ``report.html``, ``result.json`` and ``trial_plan.csv`` into DIR (default
-``./<case-stem>_plan``).  Everything is computed in memory first, then written to a temporary
-folder beside DIR and moved in file by file with ``os.replace``, so a failed run leaves an
-earlier report untouched.  Without CASE the built-in demo (``sizing/data/demo.toml``) is planned.
+``./<case-stem>_plan``).  Everything is computed in memory first, then written to a new folder
+beside DIR that takes DIR's place in one rename, so a failed run leaves an earlier report whole.  Without CASE the built-in demo (``sizing/data/demo.toml``) is planned.
 """
 
 from __future__ import annotations
@@ -13,6 +12,7 @@ from importlib.resources import files
 from pathlib import Path
 
 from ..case import load_case, loads_case
+from ..errors import InputError
 from ..outputs.jsonify import dumps
 from ..outputs.plan_files import OUTPUTS, build_outputs, write_outputs  # noqa: F401
 from ..outputs.result_json import plan_json
@@ -79,7 +79,11 @@ def run(args) -> int:
         stem = source.stem
     out_dir = Path(args.out) if args.out else Path.cwd() / f"{stem}_plan"
     plan, files = build_outputs(case, source)
-    written = write_outputs(out_dir, files)
+    try:
+        written = write_outputs(out_dir, files)
+    except OSError as exc:
+        raise InputError(f"--out: cannot write the plan into {out_dir} "
+                         f"({exc.strerror or exc}{': ' + str(exc.filename) if exc.filename else ''})") from None
     if args.json:  # one JSON object on stdout (result.json), nothing else
         print(dumps(plan_json(plan)))
         return 0

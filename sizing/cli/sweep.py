@@ -5,6 +5,7 @@ from __future__ import annotations
 import sys
 
 from ..case import load_case
+from ..errors import InputError
 from ..planning.sweep import sweep
 from .common import write_atomic
 
@@ -38,6 +39,9 @@ def run(args) -> int:
                   + (" (the temperature enters only the tension, through R T in the equation of state; the "
                      "isotherm constants are taken as given)" if "temperature" in col else ""), file=sys.stderr)
     if args.csv:
-        write_atomic(args.csv, df.to_csv(index=False, float_format="%.10g"))
+        try:
+            write_atomic(args.csv, df.to_csv(index=False, float_format="%.10g"))
+        except OSError as exc:
+            raise InputError(f"--csv: cannot write {args.csv} ({exc.strerror or exc})") from None
         print(f"\nwrote {args.csv}")
     return 0

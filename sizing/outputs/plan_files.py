@@ -1,16 +1,14 @@
 """The three files of ``sizing plan``: report.html, result.json and trial_plan.csv.
 
-:func:`build_outputs` computes all three in memory; :func:`write_outputs` writes them through a
-temporary folder beside the output folder, so a failed run leaves an earlier plan untouched.
+:func:`build_outputs` computes all three in memory; :func:`write_outputs` writes them into a
+new folder that replaces the output folder in one rename, so a failed run leaves an earlier plan whole.
 """
 
 from __future__ import annotations
 
-import os
-import shutil
-import tempfile
 from pathlib import Path
 
+from ..files import write_folder
 from ..planning.plan import build_plan
 from . import report
 from .jsonify import dumps
@@ -32,19 +30,11 @@ def build_outputs(case, source) -> tuple[object, dict[str, str]]:
 
 
 def write_outputs(out_dir: Path, files: dict[str, str]) -> list[Path]:
-    """Write the files through a temporary folder beside ``out_dir``, then move them in."""
-    out_dir = Path(out_dir)
-    out_dir.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(dir=out_dir.parent, prefix=f".{out_dir.name}.", suffix=".tmp"))
-    try:
-        for name, text in files.items():
-            with open(tmp / name, "w", encoding="utf-8", newline="") as fh:
-                fh.write(text)
-        out_dir.mkdir(parents=True, exist_ok=True)
-        written = []
-        for name in files:
-            os.replace(tmp / name, out_dir / name)
-            written.append(out_dir / name)
-        return written
-    finally:
-        shutil.rmtree(tmp, ignore_errors=True)
+    """Write the files as the content of ``out_dir`` (see :func:`sizing.files.write_folder`).
+
+    A new folder beside ``out_dir`` is filled and takes the old one's place in one rename, so a
+    failed or killed run leaves the earlier plan whole (never a mix of old and new files) and no
+    temporary folder.  When ``out_dir`` also holds other files, each of the three is replaced
+    atomically on its own and the other files are left alone.
+    """
+    return write_folder(Path(out_dir), files)

@@ -11,10 +11,14 @@ whole report is byte-identical for the same inputs.  Nothing is loaded from the 
 
 from __future__ import annotations
 
+import base64
 import math
+from pathlib import Path
 
 import numpy as np
 
+from ..errors import InputError
+from ..files import inside, read_regular
 from ..fitting.block import plot_svg_for_provenance
 from ..physics.phases import phase_names
 from ..planning.plan import plan_warnings
@@ -260,24 +264,58 @@ def render_assumptions(plan) -> str:
         body += "<p>Fitted surfactant block: " + esc(prov.get("file", "")) + "</p>"
         keep = {k: v for k, v in prov.items() if isinstance(v, (str, int, float, bool))}
         body += table(sorted(keep.items()), ("provenance", "value"), numeric_cols=())
-        svg = _fit_plot(prov.get("file"))
-        if svg:
-            start = svg.find("<svg")
-            body += f"<figure>{svg[start:] if start >= 0 else svg}<figcaption>The lab fit behind the " \
-                    "surfactant parameters.</figcaption></figure>"
+        img, note = _fit_plot(prov)
+        if img:
+            body += f"<figure>{img}<figcaption>The lab fit behind the surfactant parameters.</figcaption></figure>"
+        elif note:
+            body += f'<p class="muted">{esc(note)}</p>'
     if plan.case_notes:
         body += f'<p>Case file notes{(" (" + esc(plan.source) + ")") if plan.source else ""}:</p>' \
                 f'<pre class="notes">{esc(plan.case_notes)}</pre>'
     return section("assumptions", "Assumptions and where each value came from", body)
 
 
-def _fit_plot(path):
-    if not path:
-        return None
+MAX_PLOT_BYTES = 2 * 1024 * 1024
+
+
+def _fit_plot(prov) -> tuple[str | None, str | None]:
+    """Return ``(<img> tag, None)`` for the fitted block's plot, or ``(None, note)`` to leave it out.
+
+    Only an SVG file inside the fitted block's own folder (symlinks resolved), a regular file of
+    at most 2 MB, is taken; without one, the plot is re-rendered from the block's source CSV if
+    that too lies inside the block's folder.  The SVG goes in as an ``<img>`` with a base64 data
+    URI: a browser draws it as a picture and never runs a script in it nor loads anything it links.
+    """
+    file = prov.get("file") if isinstance(prov, dict) else None
+    if not file:
+        return None, None
+    folder = Path(file).parent
+    plot, src = prov.get("plot"), prov.get("source_path")
+    left_out = "The fit plot named in the fitted block was left out: "
+    svg = None
     try:
-        return plot_svg_for_provenance(path)
+        if plot:
+            path = inside(plot, folder, "provenance.plot")
+            if path.suffix.lower() != ".svg":
+                return None, left_out + "it is not an .svg file."
+            if path.exists():
+                svg = read_regular(path, "provenance.plot", MAX_PLOT_BYTES)
+        if svg is None and src:
+            inside(src, folder, "provenance.source_path")  # re-render only from a file beside the block
+            text = plot_svg_for_provenance(file)
+            svg = text.encode("utf-8") if text else None
+    except InputError as exc:
+        return None, left_out + str(exc).splitlines()[0]
     except Exception:  # the fit plot is an extra: never fail the report for it
-        return None
+        return None, left_out + "it could not be read or drawn."
+    if not svg:
+        return None, None
+    start = svg.find(b"<svg")
+    if start < 0 or b"</svg>" not in svg:
+        return None, left_out + "it is not an SVG picture."
+    data = base64.b64encode(svg[start:]).decode("ascii")
+    return (f'<img alt="the lab fit behind the surfactant parameters" style="max-width:100%" '
+            f'src="data:image/svg+xml;base64,{data}">'), None
 
 
 def render_cautions(plan) -> str:
