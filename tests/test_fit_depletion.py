@@ -200,11 +200,11 @@ def test_water_in_oil_runs_use_c_over_p(tmp_path):
 
 def test_langmuir_fit_that_does_not_converge_is_a_calculation_error(monkeypatch):
     # scipy's curve_fit raises RuntimeError when it gives up: reported as a numeric failure
-    import scipy.optimize
+    import sizing.fitting.depletion as fd
 
     def give_up(*args, **kwargs):
         raise RuntimeError("Optimal parameters not found")
 
-    monkeypatch.setattr(scipy.optimize, "curve_fit", give_up)
+    monkeypatch.setattr(fd, "curve_fit", give_up)
     with pytest.raises(CalculationError, match=r"Langmuir fit of 5 depletion rows did not converge"):
         fit_langmuir_excess([0.001, 0.003, 0.01, 0.03, 0.1], [1e-6, 2e-6, 2.5e-6, 2.8e-6, 2.9e-6])

@@ -4,7 +4,13 @@ from __future__ import annotations
 
 import sys
 
+from ..errors import InputError
+from ..fitting.block import fit_depletion, fit_partition, fit_tension, read_tension_csv, write_fitted_block
+from ..outputs.fit_json import depletion_fit_json, partition_fit_json, tension_fit_json
 from ..outputs.jsonify import dumps
+from ..physics.isotherm import area_from_surface_excess
+from ..physics.properties import water_surface_tension
+from ..units import format_si, parse
 
 
 def register(subparsers) -> None:
@@ -59,14 +65,7 @@ def _warn(lines) -> None:
 
 
 def _tension(args) -> int:
-    from ..fitting.block import fit_tension, read_tension_csv, write_fitted_block
-    from ..outputs.fit_json import tension_fit_json
-    from ..physics.properties import water_surface_tension
-    from ..units import parse
-
     if args.bootstrap < 0:
-        from ..errors import InputError
-
         raise InputError(f"--bootstrap: expected a number of refits >= 0, got {args.bootstrap}")
     data = read_tension_csv(args.data)
     temperature = parse(args.temperature, "--temperature", "temperature") if args.temperature else None
@@ -90,9 +89,6 @@ def _tension(args) -> int:
 
 
 def _tension_text(fit) -> str:
-    from ..physics.isotherm import area_from_surface_excess
-    from ..units import format_si
-
     b = fit.best
     rows = [("CMC", "cmc", "concentration", "mM"),
             ("max surface excess", "max_surface_excess", "surface_excess", "umol/m**2"),
@@ -131,10 +127,6 @@ def _tension_text(fit) -> str:
 
 
 def _depletion(args) -> int:
-    from ..fitting.block import fit_depletion
-    from ..outputs.fit_json import depletion_fit_json
-    from ..units import format_si
-
     res = fit_depletion(args.data, partition_coefficient=args.partition_coefficient,
                         continuous=args.continuous)
     if args.json:
@@ -169,10 +161,6 @@ def _depletion(args) -> int:
 
 
 def _partition(args) -> int:
-    from ..fitting.block import fit_partition
-    from ..outputs.fit_json import partition_fit_json
-    from ..units import format_si, parse
-
     cmc = parse(args.cmc, "--cmc", "concentration") if args.cmc else None
     res = fit_partition(args.data, cmc=cmc)
     if args.json:

@@ -13,9 +13,11 @@ import datetime as _dt
 import hashlib
 import io
 import os
+import tomllib
 from pathlib import Path
 
 import numpy as np
+import tomli_w
 
 from ..errors import InputError
 from ..files import write_atomic
@@ -228,8 +230,6 @@ def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> 
     2. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the fitted equation of state)
        [from memory].
     """
-    import tomli_w
-
     out = Path(out_dir)
     stem = name or block_stem(fit.data.path)
     toml_path, svg_path = out / f"{stem}.toml", out / f"{stem}_tension_fit.svg"
@@ -281,10 +281,10 @@ def tension_plot_svg(fit: TensionFit) -> str:
     2. Hunter, J. D., "Matplotlib: a 2D graphics environment", Comput. Sci. Eng. 9 (2007) 90-95,
        doi:10.1109/MCSE.2007.55 [from memory].
     """
-    import matplotlib
+    import matplotlib  # deferred: matplotlib is heavy and only the plot needs it
 
     matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
+    import matplotlib.pyplot as plt  # deferred with matplotlib
 
     d = fit.data
     with matplotlib.rc_context({"svg.hashsalt": "sizing-fit", "svg.fonttype": "path"}):
@@ -362,8 +362,6 @@ def plot_svg_for_provenance(toml_path) -> str | None:
     2. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the fitted equation of state)
        [from memory].
     """
-    import tomllib
-
     path = Path(toml_path)
     try:
         doc = tomllib.loads(path.read_text(encoding="utf-8"))

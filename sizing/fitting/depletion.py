@@ -23,6 +23,8 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.optimize import curve_fit
+from scipy.stats import t as student_t
 
 from ..errors import CalculationError, InputError
 from ..labcsv import read_lab_csv
@@ -382,9 +384,6 @@ def fit_langmuir_excess(c, gamma, sd=None, c_sd=None) -> dict:
        912-916, doi:10.1119/1.12972 (effective variance) [from memory].
     4. Langmuir, I., J. Am. Chem. Soc. 40 (1918) 1361-1403, doi:10.1021/ja02242a004 [from memory].
     """
-    from scipy.optimize import curve_fit
-    from scipy.stats import t as student_t
-
     c, g = np.asarray(c, dtype=float), np.asarray(gamma, dtype=float)
     sd_g = None if sd is None else np.asarray(sd, dtype=float)
     sd_c = np.zeros_like(c) if c_sd is None else np.nan_to_num(np.asarray(c_sd, dtype=float))

@@ -25,6 +25,8 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.optimize import least_squares
+from scipy.stats import t as student_t
 
 from ..errors import InputError
 from ..labcsv import read_lab_csv
@@ -118,8 +120,6 @@ def log_ratio_estimate(c_water, c_oil):
     3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
        Springer (2002) (AICc) [from memory].
     """
-    from scipy.stats import t as student_t
-
     y = np.log(np.asarray(c_oil, dtype=float) / np.asarray(c_water, dtype=float))
     m = float(np.mean(y))
     if len(y) < 2:
@@ -166,8 +166,6 @@ def origin_line_estimate(c_water, c_oil):
     3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
        Springer (2002) (AICc) [from memory].
     """
-    from scipy.stats import t as student_t
-
     x, y = np.asarray(c_water, dtype=float), np.asarray(c_oil, dtype=float)
     p = float(x @ y / (x @ x))
     dof = len(x) - 1
@@ -219,8 +217,6 @@ def fit_breakpoint(c_water, c_oil):
     3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
        Springer (2002) (AICc) [from memory].
     """
-    from scipy.optimize import least_squares
-
     x = np.log(np.asarray(c_water, dtype=float))
     y = np.log(np.asarray(c_oil, dtype=float))
     n = len(x)

@@ -31,6 +31,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
+from scipy.optimize import least_squares
+from scipy.stats import t as student_t
 
 from ..constants import GAS_CONSTANT
 from ..errors import CalculationError, InputError
@@ -471,8 +473,6 @@ def _candidates(logc):
 
 
 def _solve(fun, x0, lo, hi):
-    from scipy.optimize import least_squares
-
     x0 = np.clip(x0, lo + 1e-9 * (hi - lo), hi - 1e-9 * (hi - lo))
     return least_squares(fun, x0, bounds=(lo, hi), x_scale="jac", method="trf",
                          ftol=1e-12, xtol=1e-12, gtol=1e-12, max_nfev=2000)
@@ -505,8 +505,6 @@ def _fit_model(data, model, temperature, n, g0_fixed_mn, starts=None):
 
 
 def _summarise(data, model, best, names, lo, hi, fun, temperature, n, g0_fixed_mn):
-    from scipy.stats import t as student_t
-
     x = best.x
     r_mn = best.fun
     npts, k = len(r_mn), len(x)

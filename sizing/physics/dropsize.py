@@ -34,6 +34,7 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
+from scipy import stats
 
 from ..errors import InputError
 
@@ -163,8 +164,6 @@ def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLaw
        Wiley, ch. 11 (simple linear regression: t-intervals and prediction intervals)
        [from memory].
     """
-    from scipy import stats
-
     x = np.asarray(x, dtype=float).ravel()
     d = np.asarray(d32, dtype=float).ravel()
     if x.size != d.size or x.size == 0:
@@ -254,8 +253,6 @@ def predict_power_law(fit: PowerLawFit, x):
        Wiley, ch. 11 (simple linear regression: t-intervals and prediction intervals)
        [from memory].
     """
-    from scipy import stats
-
     x = np.asarray(x, dtype=float)
     lx = np.log(x)
     d = fit.prefactor * x ** fit.exponent
