@@ -194,7 +194,11 @@ def render_d32_chart(plan) -> str:
         ax.plot([d32_case * 1e6], [r.kg_product_per_batch], "D", color="#c0392b", ms=6,
                 label=f"this case: d32 {q(d32_case, 'um', scale=1e6)}")
         ax.set_xscale("log")
-        from matplotlib.ticker import LogLocator, NullFormatter, ScalarFormatter  # deferred: matplotlib is heavy
+        from matplotlib.ticker import (  # deferred: matplotlib is heavy
+            LogLocator,
+            NullFormatter,
+            ScalarFormatter,
+        )
 
         ax.xaxis.set_major_locator(LogLocator(subs=(1.0, 2.0, 5.0)))
         ax.xaxis.set_major_formatter(ScalarFormatter())

@@ -2,8 +2,8 @@
 
 import streamlit as st
 
-from sizing.errors import InputError
 from sizing.case import read_size_table
+from sizing.errors import InputError
 from ui import charts, state
 from ui.charts import UM, num
 from ui.state import field

@@ -8,6 +8,7 @@ import streamlit as st
 from sizing import views
 from sizing.errors import SizingError
 from sizing.outputs import fit_json
+from sizing.physics.isotherm import MODELS
 from ui import charts, state
 from ui.charts import MN, num
 from ui.state import field
@@ -30,7 +31,7 @@ with left:
           help="0.30 for a 30 % solution")
     field("surfactant.cmc", "CMC [concentration, e.g. 8.2 mM]", optional=True,
           help="leave empty for an emulsifier without micelles (a protein, a polymer)")
-    field("surfactant.isotherm", "Isotherm", kind="choice", options=["langmuir", "frumkin", "volmer"])
+    field("surfactant.isotherm", "Isotherm", kind="choice", options=list(MODELS))
     choice = state.either("Saturated surface excess given as",
                           ["surfactant.max_surface_excess", "surfactant.area_per_molecule"],
                           {"surfactant.max_surface_excess": "surface excess",
@@ -87,7 +88,7 @@ def _tension_tab() -> None:
         c2, c3 = st.columns(2)
         n = c2.number_input("Gibbs prefactor n [-]", min_value=1.0, max_value=3.0, value=1.0, step=1.0,
                             key="fit_t_n")
-        model = c3.selectbox("Isotherm", ["best by AICc", "langmuir", "frumkin", "volmer"], key="fit_t_model")
+        model = c3.selectbox("Isotherm", ["best by AICc", *MODELS], key="fit_t_model")
         go = st.form_submit_button("Fit the tension series", disabled=path is None, key="btn_fit_tension")
     if go and path:
         from sizing.units import parse
