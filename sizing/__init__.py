@@ -4,9 +4,8 @@ The engine: interfacial area from size distributions, adsorption isotherms, part
 micelles in one mass balance, fits from lab data, scale-up and the plant-trial plan.  Pure
 computation in SI floats and numpy arrays; units are parsed at the boundary (``sizing.units``).
 
-The public API for scripted studies (see the README's "Use from Python")::
+The public API for scripted studies (see the README's "Use from Python"); after ``import sizing``::
 
-    import sizing
     case = sizing.load_case("cases_demo/lotion_o_w.toml")
     sol = sizing.solve_case(case)                 # target -> dose, SI floats
     plan = sizing.build_plan(case)                # recommendation, trial matrix, parts

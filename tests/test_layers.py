@@ -67,11 +67,8 @@ def imports_of(path: Path, name: str):
                 mod = ".".join(base + ([node.module] if node.module else []))
             else:
                 mod = node.module or ""
-            if node.module is None or node.level and not node.module:
-                for a in node.names:  # from . import x: x may be a module
-                    yield f"{mod}.{a.name}", node.lineno, node.lineno in local_lines
-            else:
-                yield mod, node.lineno, node.lineno in local_lines
+            for a in node.names:  # "from .physics import balance": balance may be a module itself
+                yield f"{mod}.{a.name}", node.lineno, node.lineno in local_lines
 
 
 def graph(package: Path = PACKAGE):
@@ -85,7 +82,9 @@ def graph(package: Path = PACKAGE):
                 continue
             # "from .physics import balance" names a module; "from .model import solve" a symbol
             t = target if target in mods else target.rpartition(".")[0]
-            if t in mods and t != name:
+            if t not in mods:
+                continue
+            if t != name:
                 edges.append((t, line, local))
         out[name] = edges
     return out
