@@ -7,7 +7,11 @@ not blank or ``#`` comments) and the column.
 
 The separator is taken from the header line: ``,`` (the default), ``;`` or a tab.  In a file
 separated by ``;`` or tabs a decimal comma (``70,2``) is read as a decimal point, as European
-spreadsheet exports write it.
+spreadsheet exports write it.  A first line ``sep=;`` (as spreadsheets write it) names the
+separator; UTF-16 text with a byte-order mark is read too.  ``nan``, ``inf`` and numbers too large
+for a float are refused by row and column (an empty cell is the way to say "no value").  At most
+5 MB and 10,000 data rows are read.  Messages quote a cell value as a token of at most 20
+characters and a header cell of at most 40, control characters replaced by ``?``.
 """
 
 from __future__ import annotations
@@ -31,6 +35,8 @@ _SEPARATOR_NAMES = {",": "','", ";": "';'", "\t": "a tab"}
 _GENERIC_EXAMPLE = "'upper [um]' or 'tension [mN/m]'"
 _LISTED = 3  # non-numeric cells listed one by one per column before summarising
 MAX_BYTES = 5 * 1024 * 1024
+MAX_ROWS = 10_000  # data rows of a lab CSV (lab series and size tables have tens to hundreds)
+_SEP_LINE = re.compile(r'^\s*"?sep=([,;\t])"?\s*$', re.IGNORECASE)
 MAX_HEADER = 40  # characters of a header cell quoted in a message (cell values: MAX_TOKEN = 20)
 
 
@@ -175,6 +181,12 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     """
     p = Path(path)
     raw = read_regular(p, str(p), MAX_BYTES)
+    if raw[:2] in (b"\xff\xfe", b"\xfe\xff"):  # spreadsheets' "Unicode text" export
+        try:
+            raw = raw.decode("utf-16").encode("utf-8")
+        except UnicodeDecodeError as exc:
+            raise InputError(f"{p}: starts as UTF-16 text but does not decode as UTF-16; "
+                             "save it as CSV UTF-8") from exc
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:
@@ -183,7 +195,16 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
             text = raw.decode("cp1252")
         except UnicodeDecodeError as exc:
             raise InputError(f"{p}: cannot read as text (neither UTF-8 nor Windows-1252)") from exc
-    sep = detect_separator(_header_line(text))
+    sep = None
+    lines = text.splitlines()
+    first = next((i for i, line in enumerate(lines) if line.strip()), None)
+    if first is not None:
+        m = _SEP_LINE.match(lines[first])
+        if m:  # a spreadsheet's 'sep=;' line names the separator and is not the header
+            sep = m.group(1)
+            text = "\n".join(lines[:first] + lines[first + 1:]) + "\n"
+    if sep is None:
+        sep = detect_separator(_header_line(text))
     width = max((line.count(sep) for line in text.splitlines()), default=0) + 1
     try:
         import pandas as pd  # deferred: pandas is heavy and only lab files need it
@@ -200,6 +221,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     body = grid.iloc[1:].reset_index(drop=True)
     if body.shape[0] == 0:
         raise InputError(f"{p}: no data rows below the header")
+    if body.shape[0] > MAX_ROWS:
+        raise InputError(f"{p}: {body.shape[0]} data rows; at most {MAX_ROWS} are accepted")
 
     problems: list[str] = []
     # rows with more cells than the header (often numbers split at a decimal comma)
@@ -266,6 +289,7 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         numbers = np.full(len(series), np.nan)
         bad: list[tuple[int, str]] = []
         comma: list[tuple[int, str]] = []
+        infinite: list[tuple[int, str]] = []
         for i, cell_text in enumerate(series):
             if cell_text == "":
                 continue
@@ -275,6 +299,10 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
                 numbers[i] = float(cell_text)
             except ValueError:
                 (comma if _DECIMAL_COMMA.match(cell_text) else bad).append((i, cell_text))
+                continue
+            if not np.isfinite(numbers[i]):  # 'nan', 'inf', '1e999': a number but not a value
+                numbers[i] = np.nan
+                infinite.append((i, cell_text))
         if comma:
             i, cell_text = comma[0]
             count = f" ({len(comma)} cells)" if len(comma) > 1 else ""
@@ -284,7 +312,13 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         if len(bad) > _LISTED:
             problems.append(f"{p}: column {token(cell, MAX_HEADER)}: ... and {len(bad) - _LISTED} more in this "
                             f"column (up to row {bad[-1][0] + 2}) that are not numbers")
-        if comma or bad:
+        for i, cell_text in infinite[:_LISTED]:
+            problems.append(f"{p}: row {i + 2}, column {token(cell, MAX_HEADER)}: {token(cell_text)} is not a "
+                            "finite number; expected a measured value (leave the cell empty when there is none)")
+        if len(infinite) > _LISTED:
+            problems.append(f"{p}: column {token(cell, MAX_HEADER)}: ... and {len(infinite) - _LISTED} more "
+                            "cells in this column that are not finite numbers")
+        if comma or bad or infinite:
             continue
         values = numbers
         if dim and unit:

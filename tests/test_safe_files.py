@@ -21,7 +21,7 @@ from sizing import files
 from sizing.case import load_case, loads_case
 from sizing.cli import main
 from sizing.errors import InputError
-from sizing.labcsv import read_lab_csv
+from sizing.labcsv import MAX_ROWS, read_lab_csv
 from sizing.outputs.plan_files import build_outputs, write_outputs
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -390,3 +390,36 @@ def test_plan_into_the_working_folder_never_swaps_it(tmp_path, monkeypatch):
     write_outputs(Path("."), _plan_files("new"))
     assert os.stat(".").st_ino == inode and os.path.samefile(".", out)
     assert {p.name: p.read_text() for p in out.iterdir()} == _plan_files("new")
+
+
+# ------------------------------------------------------------------ lab CSVs a careless user makes
+
+LAB = {"concentration": "concentration", "tension": "tension"}
+
+
+def test_nan_and_inf_cells_are_named_not_called_empty(tmp_path):
+    f = tmp_path / "lab.csv"
+    f.write_text("concentration [mM],tension [mN/m]\n0.01,nan\n0.02,inf\n0.03,1e999\n0.04,\n")
+    with pytest.raises(InputError) as e:
+        read_lab_csv(f, LAB)
+    assert e.value.problems == [
+        f"{f}: row {r}, column 'tension [mN/m]': {c!r} is not a finite number; expected a measured "
+        "value (leave the cell empty when there is none)" for r, c in ((2, "nan"), (3, "inf"), (4, "1e999"))]
+
+
+def test_utf16_and_excel_sep_line_are_read(tmp_path):
+    f = tmp_path / "lab.csv"
+    text = "concentration [mM];tension [mN/m]\n0,5;70,2\n"
+    f.write_bytes(text.encode("utf-16"))  # with its byte-order mark
+    t = read_lab_csv(f, LAB)
+    assert float(t.columns["tension"][0]) == pytest.approx(0.0702, rel=1e-12)
+    f.write_text("sep=;\n" + text)
+    t = read_lab_csv(f, LAB)
+    assert float(t.columns["concentration"][0]) == pytest.approx(0.5, rel=1e-12)
+
+
+def test_too_many_rows_is_a_clear_error(tmp_path):
+    f = tmp_path / "lab.csv"
+    f.write_text("concentration [mM],tension [mN/m]\n" + "0.01,70\n" * (MAX_ROWS + 1))
+    with pytest.raises(InputError, match=f"{MAX_ROWS + 1} data rows; at most {MAX_ROWS} are accepted"):
+        read_lab_csv(f, LAB)
