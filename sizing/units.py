@@ -3,7 +3,10 @@
 The engine works in SI floats (m, m**2, m**3, mol, mol/m**3, mol/m**2, K, N/m, kg, s).
 Case files, CSV headers, CLI options and UI fields carry units as text; this module is the
 only place that parses them.  Offset temperatures (``"25 degC"``) are handled by splitting
-the number from the unit before building the quantity.
+the number from the unit before building the quantity.  A decimal comma is read where it can
+mean nothing else (``"2,1 m**3"``); a number a thousands separator could have written
+(``"1,234 kg"``, ``"1,234.5 kg"``, ``"1 234 kg"``) is refused, and so is a text longer than
+:data:`MAX_TEXT` characters, before pint sees it.
 """
 
 from __future__ import annotations
@@ -42,7 +45,29 @@ DIMENSIONS: dict[str, tuple[str, str, str]] = {
     "dimensionless": ("", "", "a plain number"),
 }
 
-_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+# A number (with a decimal point, or one decimal comma between digits) and the unit after it.
+# Group 1 is the number as written, group 2 the unit; ``views`` reads group 2 as the unit.
+_NUMBER = re.compile(
+    r"^\s*([-+]?(?:\d+,\d+|\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$"
+)
+
+#: Longest value text read (number and unit); longer text is refused before pint sees it.
+MAX_TEXT = 200
+
+# A comma number that a thousands separator could have written ("1,234", "12,500"): refused.
+_THOUSANDS_LIKE = re.compile(r"^[-+]?[1-9]\d{0,2},\d{3}(?:[eE]|$)")
+# What may follow the number but is a separator, not a unit: ",5", ".567", "_234", "'234", "234 kg"
+_SEPARATOR_AFTER = re.compile(r"^(?:[,.'\u2019_]\s*\d|(?!\d+\s*/)\d)")
+_POINT_HINT = "use a decimal point, e.g. 2.1, and no thousands separators, e.g. 1234"
+
+
+class NumberFormatError(InputError):
+    """The number in a value's text is written so that it cannot be read safely.
+
+    A decimal comma a thousands separator could have written, digit groups, or a comma in the
+    unit.  A caller that tries several dimensions in turn re-raises this one unchanged, so the
+    user sees the hint to use a decimal point.
+    """
 
 
 @lru_cache(maxsize=1)
@@ -69,6 +94,16 @@ def _clean(unit: str) -> str:
     return u
 
 
+# What may follow "**": a plain number ("3", "-2", "0.5") or one in brackets ("(1/2)"), and no
+# further "**".  A tower such as "m**9**9**9" would have pint build a huge integer (a hang).
+_EXPONENT = re.compile(r"\s*(?:[-+]?\d+(?:\.\d*)?|\(\s*[-+]?\d+(?:\.\d*)?(?:\s*/\s*\d+)?\s*\))(?!\s*\*\*)")
+
+
+def _plain_exponents(unit: str) -> bool:
+    """Return True when every ``**`` in the (cleaned) unit is followed by a plain number."""
+    return all(_EXPONENT.match(unit, m.end()) for m in re.finditer(r"\*\*", unit))
+
+
 def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> float:
     """Parse a quantity given as text (``"2.4 um"``) into a float in SI units.
 
@@ -76,7 +111,9 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
     ----------
     text : str or float
         The value with its unit.  A bare number is accepted only for a dimensionless field or
-        when ``allow_bare`` is true (it is then read as already in SI).
+        when ``allow_bare`` is true (it is then read as already in SI).  One comma between
+        digits is a decimal comma (``"2,1 m**3"``) unless a thousands separator could have
+        written it (one to three digits, a comma, exactly three digits: ``"1,234"``).
     field : str
         The field's name, used in error messages (e.g. ``"drops.d32"``).
     dimension : str
@@ -90,7 +127,8 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
     Raises
     ------
     InputError
-        For an unknown unit, a wrong dimension or a bare number where a unit is needed.
+        For an unknown unit, a wrong dimension, a bare number where a unit is needed, an
+        ambiguous separator, a text longer than :data:`MAX_TEXT` or a value that overflows in SI.
 
     Examples
     --------
@@ -114,10 +152,26 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
         )
     if not isinstance(text, str):
         raise InputError(f"{field}: expected a {what} such as {example}, got {text!r}")
+    if len(text) > MAX_TEXT:
+        raise InputError(
+            f"{field}: a text of {len(text)} characters starting {text[:24]!r} is too long; "
+            f"expected a {what} such as {example} (at most {MAX_TEXT} characters)"
+        )
     m = _NUMBER.match(text)
     if not m:
+        if "," in text:
+            raise NumberFormatError(f"{field}: cannot read the number in {text!r}; {_POINT_HINT}")
         raise InputError(f"{field}: expected a number and a unit such as {example}, got {text!r}")
-    number, unit = float(m.group(1)), m.group(2)
+    number_text, unit = m.group(1), m.group(2)
+    if _THOUSANDS_LIKE.match(number_text):
+        raise NumberFormatError(
+            f"{field}: {text!r} is ambiguous (a decimal comma or a thousands separator?); {_POINT_HINT}"
+        )
+    if _SEPARATOR_AFTER.match(unit):
+        raise NumberFormatError(f"{field}: cannot read the number in {text!r}; {_POINT_HINT}")
+    if "," in unit:  # pint would drop it ("m**3,5" -> m**35)
+        raise NumberFormatError(f"{field}: a comma in the unit of {text!r}; {_POINT_HINT}")
+    number = float(number_text.replace(",", "."))
     if not math.isfinite(number):
         raise InputError(f"{field}: expected a finite number, got {text!r}")
     if unit == "":
@@ -127,9 +181,14 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
     if dimension == "dimensionless" and unit == "%":
         return number / 100.0
     ureg = registry()
-
+    cleaned = _clean(unit)
+    if not _plain_exponents(cleaned):
+        raise InputError(
+            f"{field}: in {text!r} an exponent is not a plain number; write one power per unit, "
+            f"e.g. 'm**3' or 'm**-2'; expected a {what} such as {example}"
+        )
     try:
-        unit_obj = ureg.parse_units(_clean(unit))
+        unit_obj = ureg.parse_units(cleaned)
     except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, ValueError,
             AttributeError, TypeError, AssertionError) as exc:
         raise InputError(
@@ -143,12 +202,20 @@ def parse(text, field: str, dimension: str, *, allow_bare: bool = False) -> floa
     if dimension == "dimensionless":
         if not q.dimensionless:
             raise InputError(f"{field}: expected a plain number, got {text!r}")
-        return float(q.to("dimensionless").magnitude)
+        return _finite(q.to("dimensionless").magnitude, field, text, what)
     if q.dimensionality != ureg.get_dimensionality(dim):
         raise InputError(
             f"{field}: {text!r} is not a {what}; expected a {what} such as {example}"
         )
-    return float(q.to(si_unit).magnitude)
+    return _finite(q.to(si_unit).magnitude, field, text, what)
+
+
+def _finite(magnitude, field: str, text: str, what: str) -> float:
+    """Return the converted magnitude as a float, refusing one that overflowed to inf or nan."""
+    value = float(magnitude)
+    if not math.isfinite(value):
+        raise InputError(f"{field}: {text!r} is out of range as a {what} (not a finite number in SI)")
+    return value
 
 
 def parse_value(text, dimension: str, *, allow_bare: bool = False) -> float:
