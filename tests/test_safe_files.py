@@ -13,6 +13,8 @@ import os
 import re
 import shutil
 import stat
+import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -194,11 +196,13 @@ def test_fifo_folder_and_oversize_are_refused_without_hanging(tmp_path):
         load_case(p)
 
 
-def test_fifo_as_size_table_is_refused(tmp_path, capsys):
+def test_fifo_as_size_table_is_refused_without_hanging(tmp_path):
+    # in a subprocess with a timeout: a regression hangs the child, not the suite
     p = _case_with(tmp_path, "drops", "file", "sizes.csv")
     os.mkfifo(p.parent / "sizes.csv")
-    rc, _, err = _run(["solve", str(p)], capsys)
-    assert rc == 2 and "not a regular file" in err and "Traceback" not in err
+    r = subprocess.run([sys.executable, "-m", "sizing", "solve", str(p)], capture_output=True,
+                       text=True, timeout=120, cwd=tmp_path)
+    assert r.returncode == 2 and "not a regular file" in r.stderr and "Traceback" not in r.stderr
 
 
 def test_read_regular_caps_what_is_read(tmp_path):
@@ -423,3 +427,26 @@ def test_too_many_rows_is_a_clear_error(tmp_path):
     f.write_text("concentration [mM],tension [mN/m]\n" + "0.01,70\n" * (MAX_ROWS + 1))
     with pytest.raises(InputError, match=f"{MAX_ROWS + 1} data rows; at most {MAX_ROWS} are accepted"):
         read_lab_csv(f, LAB)
+
+
+def _fitted_case_with_source(tmp_path: Path, source: str) -> Path:
+    shutil.copy(DEMO / "agro_ew_fitted.toml", tmp_path / "case.toml")
+    shutil.copytree(DEMO / "lab", tmp_path / "lab")
+    (tmp_path / "fits").mkdir()
+    text = (DEMO / "fits" / "nonionic.toml").read_text(encoding="utf-8")
+    text = re.sub(r'^source_path = .*\n', f"source_path = {source!r}\n", text, flags=re.M)
+    (tmp_path / "fits" / "nonionic.toml").write_text(text, encoding="utf-8")  # no .svg beside it
+    return tmp_path / "case.toml"
+
+
+def test_missing_plot_is_redrawn_from_a_source_inside_the_case_folder(tmp_path):
+    html = _report(_fitted_case_with_source(tmp_path, "../lab/nonionic_tension.csv"))
+    imgs = _imgs(html)
+    assert len(imgs) == 1 and imgs[0].startswith(b"<svg")
+
+
+def test_missing_plot_is_not_redrawn_from_outside(tmp_path):
+    sub = tmp_path / "case"
+    sub.mkdir()
+    html = _report(_fitted_case_with_source(sub, "../../outside.csv"))
+    assert _imgs(html) == [] and "provenance.source_path" in html and "outside" in html

@@ -268,7 +268,7 @@ def render_assumptions(plan) -> str:
         body += "<p>Fitted surfactant block: " + esc(prov.get("file", "")) + "</p>"
         keep = {k: v for k, v in prov.items() if isinstance(v, (str, int, float, bool))}
         body += table(sorted(keep.items()), ("provenance", "value"), numeric_cols=())
-        img, note = _fit_plot(prov)
+        img, note = _fit_plot(prov, plan.case.base_dir)
         if img:
             body += f"<figure>{img}<figcaption>The lab fit behind the surfactant parameters.</figcaption></figure>"
         elif note:
@@ -282,12 +282,12 @@ def render_assumptions(plan) -> str:
 MAX_PLOT_BYTES = 2 * 1024 * 1024
 
 
-def _fit_plot(prov) -> tuple[str | None, str | None]:
+def _fit_plot(prov, case_dir=None) -> tuple[str | None, str | None]:
     """Return ``(<img> tag, None)`` for the fitted block's plot, or ``(None, note)`` to leave it out.
 
     Only an SVG file inside the fitted block's own folder (symlinks resolved), a regular file of
     at most 2 MB, is taken; without one, the plot is re-rendered from the block's source CSV if
-    that too lies inside the block's folder.  The SVG goes in as an ``<img>`` with a base64 data
+    that lies inside the case file's folder (``case_dir``; the block's folder when None).  The SVG goes in as an ``<img>`` with a base64 data
     URI: a browser draws it as a picture and never runs a script in it nor loads anything it links.
     """
     file = prov.get("file") if isinstance(prov, dict) else None
@@ -305,7 +305,8 @@ def _fit_plot(prov) -> tuple[str | None, str | None]:
             if path.exists():
                 svg = read_regular(path, "provenance.plot", MAX_PLOT_BYTES)
         if svg is None and src:
-            inside(src, folder, "provenance.source_path")  # re-render only from a file beside the block
+            # re-render only from a source CSV inside the case's folder (the block's when none)
+            inside(Path(folder, str(src)), folder if case_dir is None else case_dir, "provenance.source_path")
             text = plot_svg_for_provenance(file)
             svg = text.encode("utf-8") if text else None
     except InputError as exc:
