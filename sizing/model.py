@@ -18,7 +18,7 @@ from .errors import InputError
 from .physics import balance, distribution, isotherm, phases
 from .physics.dropsize import PowerLawFit, fit_power_law, stirred_tank_ratio, stirred_tank_speed
 from .physics.properties import water_surface_tension
-from .units import parse
+from .units import NumberFormatError, parse
 
 AIR_DENSITY = 1.2  # kg/m**3, near 20 C and 1 atm (common practice), default for foam bubbles
 
@@ -384,9 +384,13 @@ def parse_dose(text, molar_mass: float, field: str = "--dose") -> float:
     value = None
     try:
         value = parse(text, field, "amount")
+    except NumberFormatError:
+        raise  # its hint (use a decimal point) is the message to show
     except InputError:
         try:
             value = parse(text, field, "mass") / molar_mass
+        except NumberFormatError:
+            raise
         except InputError:
             raise InputError(
                 f"{field}: expected the active amount per batch as a mass ('12 kg') or an amount "

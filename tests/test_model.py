@@ -178,3 +178,9 @@ def test_implausible_doses_are_flagged():
     huge = solution_json(solve_case(case, dose="1e9 mol"), case)["warnings"]
     assert any("far beyond any emulsifier level" in w for w in huge)
     assert solution_json(solve_case(case), case)["warnings"] == []
+
+
+def test_dose_with_an_ambiguous_comma_gets_the_decimal_point_hint():
+    with pytest.raises(InputError, match="use a decimal point"):
+        parse_dose("2,500 kg", 0.5)
+    assert parse_dose("2,5 kg", 0.5) == pytest.approx(5.0, rel=1e-12)  # 2.5 kg / 0.5 kg/mol
