@@ -633,7 +633,9 @@ def _merge_from(data: dict, base_dir: Path | None) -> dict | None:
     data["surfactant"] = merged
     prov = fitted.get("provenance", {})
     prov = dict(prov) if isinstance(prov, dict) else {}
-    prov["file"] = str(path)
+    # as the user named it (relative to where they work), never the resolved absolute path: a
+    # result.json shared with colleagues should not carry this machine's folder layout
+    prov["file"] = str(Path(base_dir) / ref) if base_dir is not None and not Path(ref).is_absolute() else ref
     prov["keys_from_file"] = sorted(k for k in block if k not in surf)
     return prov
 
