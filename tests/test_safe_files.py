@@ -450,3 +450,22 @@ def test_missing_plot_is_not_redrawn_from_outside(tmp_path):
     sub.mkdir()
     html = _report(_fitted_case_with_source(sub, "../../outside.csv"))
     assert _imgs(html) == [] and "provenance.source_path" in html and "outside" in html
+
+
+@pytest.mark.parametrize("name", ["../../x", "a/b", "..", "/tmp/x", ""])
+def test_fit_name_cannot_leave_the_out_folder(tmp_path, name):
+    # a name with a folder part would write outside --out (issue: files stay where the user said)
+    import numpy as np
+
+    from sizing.errors import InputError
+    from sizing.fitting.block import write_fitted_block
+    from sizing.fitting.tension import TensionData, fit_tension, model_tension
+
+    c = np.logspace(-3, 0, 12)
+    g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    fit = fit_tension(TensionData("s_tension.csv", c, g, 298.15, {}, ()), model="langmuir")
+    out = tmp_path / "out"
+    out.mkdir()
+    with pytest.raises(InputError, match="--name"):
+        write_fitted_block(fit, out, name=name)
+    assert list(tmp_path.rglob("*.toml")) == []

@@ -205,6 +205,8 @@ def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> 
     ------
     OSError
         When the folder cannot be written; a failed run keeps the previous files.
+    InputError
+        ``name`` holds a folder part (``'../x'``, ``'a/b'``): the files stay inside ``out_dir``.
 
     Notes
     -----
@@ -232,6 +234,10 @@ def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> 
     """
     out = Path(out_dir)
     stem = name or block_stem(fit.data.path)
+    if name is not None and (not name.strip() or name in (".", "..") or Path(name).name != name
+                             or "\\" in name or "\x00" in name):
+        raise InputError(f"--name: expected a plain file name without folders (e.g. 'nonionic_a'), "
+                         f"got {name[:40]!r}")
     toml_path, svg_path = out / f"{stem}.toml", out / f"{stem}_tension_fit.svg"
     svg = tension_plot_svg(fit)  # render first: a failure writes nothing
     rel = os.path.relpath(Path(fit.data.path).resolve(), out.resolve())
