@@ -16,24 +16,52 @@ fitting -> case -> model -> planning -> outputs -> views, cli.  ``tests/test_lay
 the order.
 """
 
-from .case import Case, case_with, dumps_case, load_case, loads_case, parse_case
-from .errors import CalculationError, InputError, SizingError
-from .fitting.depletion import fit_depletion
-from .fitting.partition import fit_partition
-from .fitting.tension import fit_tension, read_tension_csv
-from .model import Inputs, Solution, case_inputs, solve, solve_case
-from .outputs.jsonify import dumps as dumps_json
-from .outputs.plan_files import build_outputs, write_outputs
-from .outputs.report import render as render_report
-from .outputs.result_json import plan_json
-from .outputs.solve_json import solution_json
-from .planning.achievable import achievable
-from .planning.plan import Plan, build_plan
-from .planning.scaleup import scaleup_case
-from .planning.sweep import sweep
-from .planning.uncertainty import monte_carlo, sensitivity
-from .units import parse
+import importlib
+
 from .version import __version__
+
+# The public API is loaded on first use (PEP 562), so ``import sizing.cli`` (the command line,
+# which starts by importing this package) pays only for the verb it runs.  name -> (module, attribute)
+_API = {
+    "Case": (".case", "Case"), "case_with": (".case", "case_with"), "dumps_case": (".case", "dumps_case"),
+    "load_case": (".case", "load_case"), "loads_case": (".case", "loads_case"),
+    "parse_case": (".case", "parse_case"),
+    "CalculationError": (".errors", "CalculationError"), "InputError": (".errors", "InputError"),
+    "SizingError": (".errors", "SizingError"),
+    "fit_depletion": (".fitting.depletion", "fit_depletion"),
+    "fit_partition": (".fitting.partition", "fit_partition"),
+    "fit_tension": (".fitting.tension", "fit_tension"), "read_tension_csv": (".fitting.tension", "read_tension_csv"),
+    "Inputs": (".model", "Inputs"), "Solution": (".model", "Solution"), "case_inputs": (".model", "case_inputs"),
+    "solve": (".model", "solve"), "solve_case": (".model", "solve_case"),
+    "dumps_json": (".outputs.jsonify", "dumps"),
+    "build_outputs": (".outputs.plan_files", "build_outputs"),
+    "write_outputs": (".outputs.plan_files", "write_outputs"),
+    "render_report": (".outputs.report", "render"),
+    "plan_json": (".outputs.result_json", "plan_json"),
+    "solution_json": (".outputs.solve_json", "solution_json"),
+    "achievable": (".planning.achievable", "achievable"),
+    "Plan": (".planning.plan", "Plan"), "build_plan": (".planning.plan", "build_plan"),
+    "scaleup_case": (".planning.scaleup", "scaleup_case"),
+    "sweep": (".planning.sweep", "sweep"),
+    "monte_carlo": (".planning.uncertainty", "monte_carlo"),
+    "sensitivity": (".planning.uncertainty", "sensitivity"),
+    "parse": (".units", "parse"),
+}
+
+
+def __getattr__(name: str):
+    try:
+        module, attr = _API[name]
+    except KeyError:
+        raise AttributeError(f"module 'sizing' has no attribute {name!r}") from None
+    value = getattr(importlib.import_module(module, __name__), attr)
+    globals()[name] = value  # later look-ups are plain attribute reads
+    return value
+
+
+def __dir__():
+    return sorted(set(globals()) | set(__all__))
+
 
 __all__ = [
     # cases

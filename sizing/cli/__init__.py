@@ -1,8 +1,10 @@
 """The ``sizing`` command line.
 
 Each verb lives in its own module of this package and exposes ``register(subparsers)``, which
-adds its parser and sets ``func`` to a function ``(args) -> int``.  User mistakes
-(:class:`sizing.errors.InputError`) print one line per problem on stderr and exit 2.
+adds its parser and sets ``func`` to a function ``(args) -> int``.  Only the module of the verb
+that runs is imported (the engine behind a verb is heavy); ``sizing --help`` lists every verb
+from :data:`VERBS` without importing any.  User mistakes (:class:`sizing.errors.InputError`)
+print one line per problem on stderr and exit 2.
 """
 
 from __future__ import annotations
@@ -15,11 +17,43 @@ import sys
 from ..errors import InputError, SizingError
 from ..version import __version__
 
-# verb modules, in the order they appear in --help
-VERBS = ("solve", "plan", "sweep", "check", "fit", "scaleup", "achievable", "bench", "app")
+#: verb -> its one-line help in ``sizing --help`` (the same text as the module's own parser),
+#: in the order they appear; the verb's module is ``sizing.cli.<verb>``
+VERBS = {
+    "solve": "dose for the case's target, or the equilibrium for a given dose",
+    "plan": "recommended charge, trial matrix and an HTML report",
+    "sweep": "what-if table of the dose over one or two inputs",
+    "check": "validate a case and print it resolved to SI (no solve)",
+    "fit": "fit surfactant parameters from lab data (CSV)",
+    "scaleup": "plant drop size from the [scaleup] section, and the dose it implies",
+    "achievable": "drop size reached with a dose when surfactant may limit it",
+    "bench": "benchmark the vectorised balance against a per-case loop",
+    "app": "start the Streamlit workbench in the browser (127.0.0.1)",
+}
 
 
-def build_parser() -> argparse.ArgumentParser:
+def verb_of(argv: list[str]) -> str | None:
+    """Return the verb named on a command line (its first word that is not an option), if any."""
+    for word in argv:
+        if word == "--":
+            return None
+        if not word.startswith("-"):
+            return word if word in VERBS else None
+    return None
+
+
+def load_verb(verb: str):
+    """Import and return ``sizing.cli.<verb>`` (None when the verb's module is not built yet)."""
+    try:
+        return importlib.import_module(f"sizing.cli.{verb}")
+    except ModuleNotFoundError as exc:
+        if exc.name == f"sizing.cli.{verb}":
+            return None
+        raise
+
+
+def build_parser(verb: str | None = None, *, every_verb: bool = False) -> argparse.ArgumentParser:
+    """Return the parser; the full parser of ``verb`` (or of every verb), a one-line entry for the others."""
     parser = argparse.ArgumentParser(
         prog="sizing",
         description="Size the surfactant dose for an emulsion or a foam and plan the plant trial.",
@@ -27,19 +61,18 @@ def build_parser() -> argparse.ArgumentParser:
 
     parser.add_argument("--version", action="version", version=f"sizing {__version__}")
     sub = parser.add_subparsers(dest="verb", metavar="COMMAND")
-    for verb in VERBS:
-        try:
-            module = importlib.import_module(f"sizing.cli.{verb}")
-        except ModuleNotFoundError as exc:
-            if exc.name == f"sizing.cli.{verb}":
-                continue  # verb not built yet
-            raise
-        module.register(sub)
+    for name, help_text in VERBS.items():
+        module = load_verb(name) if every_verb or name == verb else None
+        if module is not None:
+            module.register(sub)
+        else:  # listed in --help; its arguments are read only when it runs
+            sub.add_parser(name, help=help_text, add_help=False)
     return parser
 
 
 def main(argv: list[str] | None = None) -> int:
-    parser = build_parser()
+    argv = sys.argv[1:] if argv is None else list(argv)
+    parser = build_parser(verb_of(argv))
     args = parser.parse_args(argv)
     if not getattr(args, "func", None):
         parser.print_help()

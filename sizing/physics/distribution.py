@@ -28,11 +28,11 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.special import gamma as gamma_fn
-from scipy.stats import norm
+from scipy.special import ndtri
 
 from ..errors import InputError
 
-Z10, Z90 = norm.ppf(0.1), norm.ppf(0.9)
+Z10, Z90 = ndtri(0.1), ndtri(0.9)  # normal quantiles (scipy.stats.norm.ppf is ndtri; no scipy.stats import)
 
 
 @dataclass(frozen=True)
@@ -194,7 +194,8 @@ def lognormal_volume_density(median, gsd, basis: str, diameters):
     s = lognormal_stats(median, gsd, basis)
     ls = np.log(gsd)
     d = np.asarray(diameters, dtype=float)
-    return norm.pdf(np.log(d / s.dv50) / ls) / ls
+    z = np.log(d / s.dv50) / ls
+    return np.exp(-z * z / 2.0) / np.sqrt(2 * np.pi) / ls  # the normal pdf, as scipy.stats.norm.pdf
 
 
 # ---------------------------------------------------------------------------------------------

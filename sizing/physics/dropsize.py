@@ -4,7 +4,7 @@ Two methods, chosen by name (``[scaleup] method``):
 
 - ``power_law``: ``d32 = C X**b`` with X the homogenising pressure [Pa], the energy density
   [J/m**3] or the rotor tip speed [m/s] (given directly or as a speed and a diameter,
-  ``v = pi N D``).  C and b are fitted by least squares in log space (``scipy.stats.linregress``)
+  ``v = pi N D``).  C and b are fitted by least squares in log space (the formulas of ``scipy.stats.linregress``)
   from two or more lab points, with 95 % intervals; with one point (or an exponent fixed in the
   case) only C is fitted and b is a default (:data:`DEFAULT_EXPONENTS`), marked as such.
 - ``stirred_tank``: the Weber-number correlation ``d32/D = C1 (1 + C2 phi) We**a``,
@@ -34,7 +34,7 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy import stats
+from scipy.special import stdtrit  # Student t quantile: stdtrit(dof, q) is scipy.stats.t.ppf(q, dof)
 
 from ..errors import InputError
 
@@ -118,6 +118,30 @@ class PowerLawFit:
     _fixed: bool = False
 
 
+def _linregress(x: np.ndarray, y: np.ndarray) -> tuple[float, float, float, float]:
+    """Return slope, intercept and their standard errors of ``y = a + b x`` (ordinary least squares).
+
+    The formulas and their order are those of ``scipy.stats.linregress`` (same numbers to the last
+    bit), written out so the solve path does not import ``scipy.stats``.  Two points give zero
+    standard errors; x all equal raises ValueError, as there.
+    """
+    if np.amax(x) == np.amin(x) and len(x) > 1:
+        raise ValueError("Cannot calculate a linear regression if all x values are identical")
+    n = len(x)
+    xmean, ymean = np.mean(x, None), np.mean(y, None)
+    ssxm, ssxym, _, ssym = np.cov(x, y, bias=1).flat
+    if ssxm == 0.0 or ssym == 0.0:
+        r = np.asarray(np.nan if ssxym == 0 else 0.0)[()]
+    else:
+        r = min(max(ssxym / np.sqrt(ssxm * ssym), -1.0), 1.0)
+    slope = ssxym / ssxm
+    intercept = ymean - slope * xmean
+    if n == 2:
+        return float(slope), float(intercept), 0.0, 0.0
+    slope_se = np.sqrt((1 - r**2) * ssym / ssxm / (n - 2))
+    return float(slope), float(intercept), float(slope_se), float(slope_se * np.sqrt(ssxm + xmean**2))
+
+
 def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLawFit:
     """Fit ``d32 = C X**b`` in log space, with 95 % intervals.
 
@@ -144,7 +168,7 @@ def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLaw
 
     Notes
     -----
-    ``ln d32 = ln C + b ln X`` by ordinary least squares (``scipy.stats.linregress``); with the
+    ``ln d32 = ln C + b ln X`` by ordinary least squares (the formulas of ``scipy.stats.linregress``); with the
     exponent fixed, ``ln C`` is the mean of ``ln d32 - b ln X``.  Intervals use Student's t with
     the residual degrees of freedom (n - 2, or n - 1 with b fixed) [2].  Valid inside the lab
     range of X and one homogeniser type; homogenisers report b from -0.6 to -0.9 [1].
@@ -174,16 +198,15 @@ def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLaw
     n = x.size
     t975 = None
     if exponent is None and n >= 2:
-        r = stats.linregress(lx, ld)
-        b, a = float(r.slope), float(r.intercept)
+        b, a, b_se, a_se = _linregress(lx, ld)
         dof = n - 2
         resid = ld - (a + b * lx)
         s = math.sqrt(float(resid @ resid) / dof) if dof > 0 else math.nan
         b_int = a_int = None
         if dof > 0:
-            t975 = stats.t.ppf(0.975, dof)
-            b_int = (b - t975 * r.stderr, b + t975 * r.stderr)
-            a_int = (a - t975 * r.intercept_stderr, a + t975 * r.intercept_stderr)
+            t975 = stdtrit(dof, 0.975)
+            b_int = (b - t975 * b_se, b + t975 * b_se)
+            a_int = (a - t975 * a_se, a + t975 * a_se)
         return PowerLawFit(
             prefactor=math.exp(a), exponent=b,
             prefactor_interval=(math.exp(a_int[0]), math.exp(a_int[1])) if a_int else None,
@@ -203,7 +226,7 @@ def fit_power_law(x, d32, exponent=None, variable: str = "pressure") -> PowerLaw
     s = float(a_each.std(ddof=1)) if dof > 0 else math.nan
     a_int = None
     if dof > 0:
-        t975 = stats.t.ppf(0.975, dof)
+        t975 = stdtrit(dof, 0.975)
         half = t975 * s / math.sqrt(n)
         a_int = (math.exp(a - half), math.exp(a + half))
     return PowerLawFit(
@@ -257,7 +280,7 @@ def predict_power_law(fit: PowerLawFit, x):
     lx = np.log(x)
     d = fit.prefactor * x ** fit.exponent
     if fit.dof > 0 and math.isfinite(fit.residual_sd_ln):
-        t975 = stats.t.ppf(0.975, fit.dof)
+        t975 = stdtrit(fit.dof, 0.975)
         n, lxs = fit.n_points, fit._lnx
         if fit.exponent_interval is not None:  # both fitted
             sxx = float(((lxs - lxs.mean()) ** 2).sum())

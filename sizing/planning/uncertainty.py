@@ -28,15 +28,15 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
-from scipy.stats import norm
+from scipy.special import ndtri  # the normal quantile (scipy.stats.norm.ppf), without scipy.stats
 
 from ..case import case_with, load_case
 from ..errors import InputError
 from ..model import case_inputs, solve
 from .scaleup import scaleup_case
 
-Z975 = float(norm.ppf(0.975))
-Z90 = float(norm.ppf(0.9))
+Z975 = float(ndtri(0.975))
+Z90 = float(ndtri(0.9))
 
 # model bounds of values that a sample may cross (the schema checks only the central value)
 BOUNDS = {
@@ -92,7 +92,7 @@ def spread_quantiles(value, q) -> np.ndarray:
     q = np.asarray(q, dtype=float)
     if value.spread[0] == "lognormal":
         s = math.sqrt(math.log1p(value.spread[1] ** 2))
-        return value.si * np.exp(s * norm.ppf(q) - 0.5 * s * s)
+        return value.si * np.exp(s * ndtri(q) - 0.5 * s * s)
     lo, hi = value.spread[1], value.spread[2]
     return lo + q * (hi - lo)
 
