@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.optimize import curve_fit
-from scipy.stats import t as student_t
+from scipy.special import stdtrit  # Student t quantile, stdtrit(dof, q) = scipy.stats.t.ppf(q, dof)
 
 from ..errors import CalculationError, InputError
 from ..labcsv import read_lab_csv
@@ -408,7 +408,7 @@ def fit_langmuir_excess(c, gamma, sd=None, c_sd=None) -> dict:
             raise CalculationError(f"the Langmuir fit of {len(c)} depletion rows did not converge "
                                    f"({exc}); check the rows, or use the surface excess per row") from exc
     dof = max(len(c) - 2, 1)
-    tq = float(student_t.ppf(0.5 + CONFIDENCE / 2, dof))
+    tq = float(stdtrit(dof, 0.5 + CONFIDENCE / 2))
     se = np.sqrt(np.clip(np.diag(pcov), 0, None))
     with np.errstate(over="ignore"):
         iv = [(float(np.exp(popt[j] - tq * se[j])), float(np.exp(popt[j] + tq * se[j]))) for j in (0, 1)]

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.optimize import least_squares
-from scipy.stats import t as student_t
+from scipy.special import stdtrit  # Student t quantile, stdtrit(dof, q) = scipy.stats.t.ppf(q, dof)
 
 from ..errors import InputError
 from ..labcsv import read_lab_csv
@@ -124,7 +124,7 @@ def log_ratio_estimate(c_water, c_oil):
     m = float(np.mean(y))
     if len(y) < 2:
         return math.exp(m), (math.nan, math.nan)
-    half = float(student_t.ppf(0.5 + CONFIDENCE / 2, len(y) - 1)) * float(np.std(y, ddof=1)) / math.sqrt(len(y))
+    half = float(stdtrit(len(y) - 1, 0.5 + CONFIDENCE / 2)) * float(np.std(y, ddof=1)) / math.sqrt(len(y))
     return math.exp(m), (math.exp(m - half), math.exp(m + half))
 
 
@@ -173,7 +173,7 @@ def origin_line_estimate(c_water, c_oil):
         return p, (math.nan, math.nan)
     r = y - p * x
     se = math.sqrt(float(r @ r) / dof / float(x @ x))
-    half = float(student_t.ppf(0.5 + CONFIDENCE / 2, dof)) * se
+    half = float(stdtrit(dof, 0.5 + CONFIDENCE / 2)) * se
     return p, (max(p - half, 0.0), p + half)
 
 

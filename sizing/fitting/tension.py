@@ -32,7 +32,7 @@ from pathlib import Path
 
 import numpy as np
 from scipy.optimize import least_squares
-from scipy.stats import t as student_t
+from scipy.special import stdtrit  # Student t quantile, stdtrit(dof, q) = scipy.stats.t.ppf(q, dof)
 
 from ..constants import GAS_CONSTANT
 from ..errors import CalculationError, InputError
@@ -517,7 +517,7 @@ def _summarise(data, model, best, names, lo, hi, fun, temperature, n, g0_fixed_m
         se = np.sqrt(np.clip(np.diag(cov), 0, None))
     except np.linalg.LinAlgError:  # pragma: no cover
         se = np.full(k, np.inf)
-    tq = float(student_t.ppf(0.5 + CONFIDENCE / 2, dof))
+    tq = float(stdtrit(dof, 0.5 + CONFIDENCE / 2))
     g0, ginf, kk, beta, lcmc = _unpack(x, names, g0_fixed_mn)
     params = {"clean_tension": float(g0) * 1e-3, "max_surface_excess": float(ginf),
               "adsorption_constant": float(kk), "interaction": float(beta), "cmc": 10.0 ** float(lcmc)}
