@@ -121,3 +121,68 @@ def test_too_few_points_below_given_cmc(tmp_path):
     p = write_pairs(tmp_path, [0.01, 0.2, 0.5], [0.2, 2.0, 2.0])
     with pytest.raises(InputError, match=r"1 point\(s\) below the CMC .* expected at least 2"):
         fit_partition(p, cmc=0.1)
+
+
+# ---------------------------------------------------------------- data that cannot support a fit
+def test_one_row_is_refused_with_the_reason(tmp_path):
+    p = write_pairs(tmp_path, [0.01], [0.2])
+    with pytest.raises(InputError, match=r"1 data row\(s\); expected at least 2 pairs"):
+        fit_partition(p)
+    assert main(["fit", "partition", str(p)]) == 2
+
+
+def test_one_row_repeated_is_refused(tmp_path):
+    p = write_pairs(tmp_path, [0.01] * 6, [0.2] * 6)
+    with pytest.raises(InputError, match=r"one water concentration .*repeated rows cannot show"):
+        fit_partition(p)
+
+
+def test_pure_noise_is_refused_not_given_a_tight_interval(tmp_path):
+    # c_oil drawn independently of c_water: the slope of ln c_oil on ln c_water has a 95 %
+    # interval containing 0 in about 95 % of seeds; at least 17 of 20 refused (binomial, as in
+    # test_fitted_breakpoint_and_coverage)
+    refused = 0
+    for seed in range(20):
+        rng = np.random.default_rng(seed)
+        cw = np.exp(rng.uniform(np.log(0.001), np.log(0.05), 12))
+        co = np.exp(rng.normal(np.log(0.5), 0.3, 12))
+        try:
+            fit_partition(write_pairs(tmp_path, cw, co), cmc=0.1)
+        except InputError as exc:
+            assert "no correlation" in str(exc) and "slope" in str(exc)
+            refused += 1
+    assert refused >= 17
+
+
+def test_array_fit_matches_the_csv_fit_and_skips_rows_on_request(tmp_path):
+    from sizing.fitting.partition import fit_partition_arrays
+    cw, co = pairs(3)
+    a = fit_partition(write_pairs(tmp_path, cw, co))
+    b = fit_partition_arrays(cw, co, with_rows=False)
+    assert b.rows == [] and b.cmc_source == a.cmc_source
+    assert b.partition_coefficient == pytest.approx(a.partition_coefficient, rel=1e-7)  # 8-digit CSV
+
+
+def test_breakpoint_agrees_with_least_squares_started_in_each_gap():
+    # reference: scipy.optimize.least_squares on the same broken line, started in every gap
+    from scipy.optimize import least_squares
+
+    from sizing.fitting.partition import fit_breakpoint
+    cw, co = pairs(5)
+    x, y = np.log(cw), np.log(co)
+    best = None
+    u = np.unique(x)
+    for xb in 0.5 * (u[1:-1] + u[2:]):
+        res = least_squares(lambda q: q[0] + np.minimum(x, q[1]) - y, [np.mean(y - x), xb],
+                            bounds=([-50, u[0]], [50, u[-1]]))
+        best = res if best is None or res.cost < best.cost else best
+    p, cmc, _, _ = fit_breakpoint(cw, co)
+    assert p == pytest.approx(np.exp(best.x[0]), rel=1e-5)  # least_squares' default tolerances
+    assert cmc == pytest.approx(np.exp(best.x[1]), rel=1e-5)
+
+
+def test_implausible_concentration_is_refused_by_row(tmp_path):
+    p = tmp_path / "huge.csv"
+    p.write_text(HEADER + "0.01,0.2\n1e308,0.4\n0.04,0.8\n")
+    with pytest.raises(InputError, match=r"row 3, column 'water_concentration \[mM\]'.*accepted range"):
+        fit_partition(p)

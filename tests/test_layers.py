@@ -19,7 +19,7 @@ PACKAGE = Path(__file__).resolve().parents[1] / "sizing"
 #: lowest first; a module's layer is the first prefix that matches its dotted name
 LAYERS = (
     ("foundation", ("sizing.errors", "sizing.version", "sizing.constants", "sizing.units", "sizing.texts",
-                    "sizing.files", "sizing.labcsv")),
+                    "sizing.files", "sizing.plausible", "sizing.labcsv")),
     ("physics", ("sizing.physics",)),
     ("fitting", ("sizing.fitting",)),
     ("case", ("sizing.case",)),
