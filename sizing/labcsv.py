@@ -9,7 +9,9 @@ The separator is taken from the header line: ``,`` (the default), ``;`` or a tab
 separated by ``;`` or tabs a decimal comma (``70,2``) is read as a decimal point, as European
 spreadsheet exports write it.  A first line ``sep=;`` (as spreadsheets write it) names the
 separator; UTF-16 text with a byte-order mark is read too.  ``nan``, ``inf`` and numbers too large
-for a float are refused by row and column (an empty cell is the way to say "no value").  At most
+for a float are refused by row and column (an empty cell is the way to say "no value"), and so
+are magnitudes outside the accepted range of the column's quantity (:mod:`sizing.plausible`);
+those outside its usual range are kept with a warning in ``LabTable.warnings``.  At most
 5 MB and 10,000 data rows are read.  Messages quote a cell value as a token of at most 20
 characters and a header cell of at most 40, control characters replaced by ``?``.
 """
@@ -25,6 +27,7 @@ import numpy as np
 
 from .errors import InputError
 from .files import MAX_TOKEN, read_regular, token
+from .plausible import check_array
 from .units import DIMENSIONS, parse
 
 _HEADER = re.compile(r"^\s*([^\[\]]+?)\s*(?:\[\s*([^\]]*)\s*\])?\s*$")
@@ -47,6 +50,7 @@ class LabTable:
     path: str
     columns: dict
     units: dict  # name -> unit text as written in the header ('' for none)
+    warnings: tuple = ()  # values outside the usual range of their quantity (sizing.plausible)
 
     def __len__(self) -> int:
         return len(next(iter(self.columns.values()))) if self.columns else 0
@@ -272,6 +276,7 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
 
     columns: dict = {}
     units: dict = {}
+    notes: list[str] = []
     present = [name for _, _, name, _ in names]  # found in the header, even with a problem
     for j, cell, name, unit in names:
         series = body.iloc[:, j].str.strip()
@@ -336,6 +341,9 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
             except InputError as exc:
                 problems.append(str(exc))
                 continue
+            bad, odd = check_array(field, values, dim)
+            problems += bad
+            notes += odd
         columns[name] = values
         units[name] = unit
     missing = [c for c in required if c not in present]
@@ -345,4 +353,4 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         )
     if problems:
         raise InputError(problems=problems)
-    return LabTable(str(p), columns, units)
+    return LabTable(str(p), columns, units, tuple(notes))

@@ -67,8 +67,10 @@ RANGES: dict[str, Range] = {
     "concentration": Range((1e-15, 1e5), (1e-9, 1e4), "mM", 1.0,
                            "an assay reads down to about 1e-9 mM; no solution holds more than about 1e4 mM "
                            "(pure water is 5.5e4 mM)"),
-    "length": Range((1e-10, 1.0), (1e-9, 0.1), "um", 1e6,
-                    "drops and bubbles run from about 10 nm to a few mm"),
+    "length": Range((1e-10, 1e4), (1e-9, 100.0), "m", 1.0,
+                    "from molecular sizes to the largest process vessels"),
+    "drop_size": Range((1e-9, 0.1), (1e-8, 1e-2), "um", 1e6,
+                       "drops and bubbles run from about 10 nm to a few mm"),
     "tension": Range((1e-7, 1.0), (1e-5, 0.1), "mN/m", 1e3,
                      "interfacial tensions run from ultralow (1e-3 mN/m) to water against air "
                      "(72 mN/m); mercury, the highest liquid, is 485 mN/m"),
@@ -115,7 +117,8 @@ def check(field: str, value_si: float, quantity: str) -> str | None:
     value_si : float
         The value in SI.
     quantity : str
-        A key of :data:`RANGES`; other quantities pass unchecked.
+        A key of :data:`RANGES` (a dimension of :data:`sizing.units.DIMENSIONS`, or
+        ``drop_size`` for a drop or bubble diameter); other quantities pass unchecked.
 
     Returns
     -------
@@ -216,3 +219,62 @@ def check_array(field: str, values, quantity: str, *, row_offset: int = 2,
         more = f" (and {odd.size - 1} more row(s))" if odd.size > 1 else ""
         warnings.append(first.replace("; check the value", f"{more}; check the value", 1))
     return problems, warnings
+
+
+def _values(obj, path: str):
+    """Yield ``(path, value)`` for every quantity (an object with ``si`` and ``dimension``) in a
+    nested model of sections, lists and dicts (a validated case; nothing here knows its schema)."""
+    if hasattr(obj, "si") and hasattr(obj, "dimension"):
+        yield path, obj
+        return
+    if isinstance(obj, (list, tuple)):
+        for i, item in enumerate(obj):
+            yield from _values(item, f"{path}[{i}]")
+        return
+    if isinstance(obj, dict):
+        for k, item in obj.items():
+            yield from _values(item, f"{path}.{k}" if path else str(k))
+        return
+    fields = getattr(type(obj), "model_fields", None)  # a pydantic section
+    if fields:
+        for name in fields:
+            yield from _values(getattr(obj, name, None), f"{path}.{name}" if path else name)
+
+
+#: field names (the last part of a case's path) that hold a drop or bubble diameter
+DROP_FIELDS = frozenset({"d32", "d10", "d43", "dv10", "dv50", "dv90", "median", "characteristic_size"})
+
+
+def quantity_of(path: str, dimension: str) -> str:
+    """Return the quantity judged for a field: ``drop_size`` for a drop diameter, else its dimension.
+
+    >>> quantity_of("drops.d32", "length"), quantity_of("scaleup.plant_diameter", "length")
+    ('drop_size', 'length')
+    """
+    last = path.rsplit(".", 1)[-1].split("[", 1)[0]
+    return "drop_size" if dimension == "length" and last in DROP_FIELDS else dimension
+
+
+def model_warnings(model) -> list[str]:
+    """Return the warning of every quantity in ``model`` outside its usual range (one per field).
+
+    ``model`` is a validated case (or any section): quantities are found by their ``si`` and
+    ``dimension`` attributes, named by their path (``batch.temperature``).  A drop diameter is
+    judged as a ``drop_size`` (:func:`quantity_of`): one that passed the validator's range for a
+    length but not the accepted range of a drop is reported here too.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as V
+    >>> model_warnings({"batch": {"continuous_density": V(si=13534.0, dimension="density")}})  # doctest: +ELLIPSIS
+    ['batch.continuous_density: 1.353e+04 kg/m**3 is outside the usual range ...']
+    """
+    out = []
+    for path, v in _values(model, ""):
+        try:
+            w = check(path, v.si, quantity_of(path, v.dimension))
+        except InputError as exc:  # passed its dimension's range, not the field's: say so
+            w = str(exc)
+        if w:
+            out.append(w)
+    return out

@@ -286,7 +286,7 @@ def fit_depletion(path, *, partition_coefficient=None, continuous: str = "water"
     has_sd = any(k.endswith("_sd") for k in cols)
     samples = cols.get("sample", np.array([""] * nrow, dtype=object))
     notes_col = cols.get("notes", np.array([""] * nrow, dtype=object))
-    file_notes = []
+    file_notes = list(t.warnings)  # values outside their usual range (sizing.plausible)
     rows = []
     for i in range(nrow):
         rn = []
