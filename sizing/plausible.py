@@ -255,6 +255,11 @@ def quantity_of(path: str, dimension: str) -> str:
     return "drop_size" if dimension == "length" and last in DROP_FIELDS else dimension
 
 
+def values_of(model):
+    """Yield ``(path, quantity)`` for every quantity in a validated case (see :func:`model_warnings`)."""
+    yield from _values(model, "")
+
+
 def model_warnings(model) -> list[str]:
     """Return the warning of every quantity in ``model`` outside its usual range (one per field).
 

@@ -20,6 +20,7 @@ from ..outputs.solve_json import solution_json
 from ..planning.plan import plan_warnings
 from ..texts import CLI_CAUTION
 from ..units import sig
+from .common import clean, numeric_guard
 
 
 def register(sub) -> None:
@@ -78,7 +79,8 @@ def run(args) -> int:
         case = load_case(source)
         stem = source.stem
     out_dir = Path(args.out) if args.out else Path.cwd() / f"{stem}_plan"
-    plan, files = build_outputs(case, source)
+    with numeric_guard(args):  # before any file is written: a failed run keeps the old plan
+        plan, files = build_outputs(case, source)
     try:
         written = write_outputs(out_dir, files)
     except OSError as exc:
@@ -87,11 +89,11 @@ def run(args) -> int:
     if args.json:  # one JSON object on stdout (result.json), nothing else
         print(dumps(plan_json(plan)))
         return 0
-    print(describe(plan))
+    print(clean(describe(plan)))
     for w in plan_warnings(plan):
-        print(f"warning: {w}")
+        print(clean(f"warning: {w}"))
     print()
     for p in written:
-        print(f"wrote {p}")
+        print(clean(f"wrote {p}"))
     print("\n" + CLI_CAUTION)
     return 0

@@ -6,7 +6,7 @@ from ..case import load_case
 from ..model import solve_case
 from ..outputs.solve_json import solution_json
 from ..units import sig
-from .common import print_json, table
+from .common import clean, numeric_guard, print_json, table
 
 
 def register(sub) -> None:
@@ -46,7 +46,7 @@ def describe(out: dict) -> str:
             drows.append(("on dispersed phase", _fmt(d["percent_on_dispersed"], "% by mass (product)")))
         text.append(table(drows, title))
     else:
-        text.append("TARGET NOT REACHABLE at equilibrium: " + out.get("unreachable", ""))
+        text.append(clean("TARGET NOT REACHABLE at equilibrium: " + out.get("unreachable", "")))
     s = out["state"]
     srows = [
         ("free monomer", _fmt(s["free_concentration_mol_m3"], "mM")),
@@ -60,13 +60,14 @@ def describe(out: dict) -> str:
     total = sum(v for v in split.values() if v) or 1.0
     text.append(table([(k, f"{_fmt(v, 'mol')}  ({100 * (v or 0) / total:.1f} %)") for k, v in split.items()],
                       "where the surfactant is"))
-    text += [f"warning: {w}" for w in out.get("warnings", [])]
+    text += [clean(f"warning: {w}") for w in out.get("warnings", [])]
     return "\n\n".join(text)
 
 
 def run(args) -> int:
     case = load_case(args.case)
-    out = solution_json(solve_case(case, dose=args.dose), case)
+    with numeric_guard(args):  # an overflow is one error naming the input, before any output
+        out = solution_json(solve_case(case, dose=args.dose), case)
     if args.dose is not None:
         out["dose_given"] = args.dose
     if args.json:
