@@ -271,9 +271,11 @@ def test_cli_json_and_out(tmp_path, capsys):
     assert doc["provenance"]["source"] == "demo_tension.csv"
     svg = plot_svg_for_provenance(toml_path)
     assert svg.lstrip().startswith("<?xml") and "<svg" in svg
-    # the plot file gone: re-rendered from the source CSV
+    # the plot file gone: re-rendered from the source CSV, only when it lies inside source_root
     (tmp_path / "fits" / doc["provenance"]["plot"]).unlink()
-    assert "<svg" in plot_svg_for_provenance(toml_path)
+    with pytest.raises(InputError, match="provenance.source_path: .* points outside"):
+        plot_svg_for_provenance(toml_path)  # ../lab is outside the block's own folder
+    assert "<svg" in plot_svg_for_provenance(toml_path, source_root=tmp_path)
 
 
 def test_cli_text_output_has_units(capsys):

@@ -20,7 +20,7 @@ import numpy as np
 import tomli_w
 
 from ..errors import InputError
-from ..files import write_atomic
+from ..files import inside, read_regular, token, write_atomic
 from ..physics.isotherm import area_from_surface_excess
 from ..units import format_si, parse
 from .depletion import DepletionFit, fit_depletion, fit_langmuir_excess, surface_excess_by_difference
@@ -44,6 +44,8 @@ __all__ = [
 ]
 
 DIGITS = 6  # significant digits of the unit strings written to TOML
+MAX_BLOCK_BYTES = 1024 * 1024  # a fitted block read back (a few kB when written here)
+MAX_PLOT_BYTES = 2 * 1024 * 1024  # its SVG plot
 _UNITS = {  # parameter -> (dimension, unit written)
     "max_surface_excess": ("surface_excess", "umol/m**2"),
     "adsorption_constant": ("adsorption_constant", "m**3/mol"),
@@ -327,13 +329,16 @@ def tension_plot_svg(fit: TensionFit) -> str:
     return buf.getvalue()
 
 
-def plot_svg_for_provenance(toml_path) -> str | None:
+def plot_svg_for_provenance(toml_path, source_root=None) -> str | None:
     """Return the SVG plot of a fitted block, re-rendered from its source CSV if the file is gone.
 
     Parameters
     ----------
     toml_path : str or Path
-        A TOML file written by :func:`write_fitted_block`.
+        A TOML file written by :func:`write_fitted_block` (a regular file of at most 1 MB).
+    source_root : str or Path, optional
+        The folder the source CSV must lie in (symlinks resolved), e.g. the case file's folder;
+        the block's own folder when None.
 
     Returns
     -------
@@ -343,10 +348,16 @@ def plot_svg_for_provenance(toml_path) -> str | None:
     Raises
     ------
     InputError
-        The TOML file is missing or unreadable, or its source CSV no longer fits.
+        The TOML file is missing, unreadable or not a regular file; the recorded plot is not an
+        ``.svg`` inside the block's folder, not a regular file or over 2 MB; the source CSV lies
+        outside ``source_root``, or no longer fits.
 
     Notes
     -----
+    The path policy is here, not in the caller: the block names files, and the block may come
+    from someone else, so the plot is read only from the block's own folder and the source only
+    from ``source_root`` (both with :func:`sizing.files.inside`, read with
+    :func:`sizing.files.read_regular`: no device, FIFO or folder, size capped on what is read).
     The refit uses the recorded model, temperature, Gibbs prefactor and fixed clean tension.
 
     Examples
@@ -369,18 +380,29 @@ def plot_svg_for_provenance(toml_path) -> str | None:
        [from memory].
     """
     path = Path(toml_path)
+    raw = read_regular(path, "surfactant.from", MAX_BLOCK_BYTES)
     try:
-        doc = tomllib.loads(path.read_text(encoding="utf-8"))
-    except FileNotFoundError as exc:
-        raise InputError(f"surfactant.from: file not found: {path}") from exc
-    except (OSError, tomllib.TOMLDecodeError) as exc:
-        raise InputError(f"surfactant.from: cannot read {path} as TOML ({exc})") from exc
+        doc = tomllib.loads(raw.decode("utf-8-sig"))
+    except (UnicodeDecodeError, tomllib.TOMLDecodeError, RecursionError) as exc:
+        raise InputError(f"surfactant.from: cannot read {path} as TOML "
+                         f"({str(exc).splitlines()[0][:120] if str(exc) else type(exc).__name__})") from None
     prov = doc.get("provenance") or {}
+    if not isinstance(prov, dict):
+        raise InputError(f"provenance: expected a table, got {type(prov).__name__}")
+    folder = path.parent
     plot = prov.get("plot")
-    if plot and (path.parent / plot).is_file():
-        return (path.parent / plot).read_text(encoding="utf-8")
+    if plot:
+        plot_path = inside(plot, folder, "provenance.plot")
+        if plot_path.suffix.lower() != ".svg":
+            raise InputError(f"provenance.plot: {token(plot, 80)} is not an .svg file")
+        if plot_path.exists():
+            return read_regular(plot_path, "provenance.plot", MAX_PLOT_BYTES).decode("utf-8", "replace")
     src = prov.get("source_path")
-    if not src or not (path.parent / src).is_file():
+    if not src:
+        return None
+    src_path = inside(Path(folder, str(src)), folder if source_root is None else source_root,
+                      "provenance.source_path")
+    if not src_path.exists():
         return None
     surf = doc.get("surfactant") or {}
     fixed = None
@@ -388,7 +410,7 @@ def plot_svg_for_provenance(toml_path) -> str | None:
         fixed = parse(surf["clean_tension"], "surfactant.clean_tension", "tension")
     temperature = parse(prov["temperature"], "provenance.temperature", "temperature") \
         if "temperature" in prov else None
-    fit = fit_tension(path.parent / src, temperature=temperature,
+    fit = fit_tension(src_path, temperature=temperature,
                       gibbs_prefactor=float(prov.get("gibbs_prefactor", surf.get("gibbs_prefactor", 1))),
                       model=prov.get("model"), clean_tension=fixed)
     return tension_plot_svg(fit)

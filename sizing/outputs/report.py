@@ -307,7 +307,7 @@ def _fit_plot(prov, case_dir=None) -> tuple[str | None, str | None]:
         if svg is None and src:
             # re-render only from a source CSV inside the case's folder (the block's when none)
             inside(Path(folder, str(src)), folder if case_dir is None else case_dir, "provenance.source_path")
-            text = plot_svg_for_provenance(file)
+            text = plot_svg_for_provenance(file, source_root=folder if case_dir is None else case_dir)
             svg = text.encode("utf-8") if text else None
     except InputError as exc:
         return None, left_out + str(exc).splitlines()[0]
