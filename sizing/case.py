@@ -20,6 +20,7 @@ from __future__ import annotations
 import copy
 import difflib
 import math
+import re
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
@@ -385,6 +386,148 @@ class Surfactant(Section):
             )
 
 
+_PRICE_TEXT = re.compile(r"^\s*([0-9][0-9_]*(?:\.[0-9]*)?(?:[eE][-+]?[0-9]+)?)\s*([A-Za-z]{1,5}|[$\u20ac\u00a3\u00a5])\s*/\s*kg\s*$")
+
+
+def _price(v):
+    """``"1.8 EUR/kg"`` -> ``Value(1.8, raw, "price")`` with the currency kept in ``raw``."""
+    if isinstance(v, Value):
+        return v
+    if isinstance(v, str) and len(v) <= 40:
+        m = _PRICE_TEXT.match(v)
+        if m:
+            x = float(m.group(1).replace("_", ""))
+            if math.isfinite(x):
+                return Value(x, v, "price")
+    raise ValueError(f"expected a price per kg of the product as delivered with its currency, "
+                     f"e.g. '1.8 EUR/kg', got {v!r}")
+
+
+def price_currency(v: Value) -> str:
+    """The currency of a component price (``"1.8 EUR/kg"`` -> ``"EUR"``)."""
+    m = _PRICE_TEXT.match(str(v.raw))
+    return m.group(2) if m else ""
+
+
+Price = Annotated[Value, BeforeValidator(_price)]
+
+
+class BlendComponent(Section):
+    """One ``[[blend.component]]``: a surfactant charged as its own product, in a fixed share."""
+
+    name: str = Field(min_length=1, max_length=80)
+    fraction: Q("dimensionless", ge=0, le=1)
+    molar_mass: Q("molar_mass", gt=0)
+    active_fraction: Q("dimensionless", gt=0, le=1) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
+    cmc: Q("concentration", gt=0) | None = None
+    isotherm: str = "langmuir"
+    max_surface_excess: Q("surface_excess", "surface_load", gt=0) | None = None
+    area_per_molecule: Q("area", gt=0) | None = None
+    adsorption_constant: Q("adsorption_constant", gt=0)
+    gibbs_prefactor: Q("dimensionless", ge=1, le=3) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
+    partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    price: Price | None = None
+
+    @model_validator(mode="after")
+    def _excess(self):
+        if self.isotherm.strip().lower() != "langmuir":
+            raise ValueError(f"isotherm: a blend component uses the competitive Langmuir isotherm; "
+                             f"got {self.isotherm!r} (Frumkin and Volmer are for a single [surfactant])")
+        if (self.max_surface_excess is None) == (self.area_per_molecule is None):
+            raise ValueError(
+                "give exactly one of max_surface_excess (e.g. '3.3 umol/m**2' or '2 mg/m**2') "
+                "or area_per_molecule (e.g. '0.50 nm**2')"
+            )
+        Surfactant._check_packing(self)
+        return self
+
+
+class BlendRatio(Section):
+    """``[blend.ratio]``: the range over which the plan looks for the cheapest blend ratio.
+
+    ``component`` names the component whose fraction (on the blend's ``fractions`` basis) moves
+    from ``low`` to ``high``; the others keep their proportions.
+    """
+
+    component: str = Field(min_length=1)
+    low: float = Field(ge=0, le=1)
+    high: float = Field(ge=0, le=1)
+    points: int = Field(default=41, ge=3, le=401)
+
+    @model_validator(mode="after")
+    def _range(self):
+        if not self.low < self.high:
+            raise ValueError(f"expected low < high (fractions of the active blend), got low={self.low:g}, "
+                             f"high={self.high:g}")
+        return self
+
+
+class BlendSection(Section):
+    """``[blend]``: several surfactants charged together at a fixed composition."""
+
+    name: str = "blend"
+    fractions: Literal["mass", "mole"] = "mass"
+    micelles: Literal["ideal", "regular"] = "ideal"
+    interaction: Q("dimensionless", ge=-40, le=2) | None = None
+    clean_tension: Q("tension", gt=0) | None = None
+    component: list[BlendComponent] = Field(min_length=1, max_length=40)
+    ratio: BlendRatio | None = None
+
+    @model_validator(mode="after")
+    def _consistent(self):
+        names = [c.name.strip() for c in self.component]
+        dup = sorted({n for n in names if names.count(n) > 1})
+        if dup:
+            raise ValueError(f"component: duplicate component name(s) {', '.join(repr(d) for d in dup)}; "
+                             "expected each component named once")
+        total = sum(c.fraction.si for c in self.component)
+        if abs(total - 1.0) > 1e-6:
+            raise ValueError(f"component: the fractions add up to {total:.6g}; expected 1 "
+                             f"({self.fractions} fractions of the active blend)")
+        if self.interaction is not None and self.micelles != "regular":
+            raise ValueError("interaction: the mixed-micelle interaction beta is only used with "
+                             "micelles = 'regular'; set micelles = 'regular' or remove interaction")
+        if self.micelles == "regular":
+            if len(self.component) != 2:
+                raise ValueError(f"micelles: regular-solution micelles take exactly two components, got "
+                                 f"{len(self.component)}; use micelles = 'ideal' for more")
+            if any(c.cmc is None for c in self.component):
+                raise ValueError("micelles: regular-solution micelles need a cmc for both components")
+        if self.ratio is not None:
+            if self.ratio.component.strip() not in names:
+                raise ValueError(f"ratio: component {self.ratio.component!r} is not a component of the blend; "
+                                 f"expected one of {', '.join(repr(n) for n in names)}")
+            if len(self.component) < 2:
+                raise ValueError("ratio: a blend ratio needs at least two components")
+            if self.ratio.high >= 1.0 and len(self.component) > 1:
+                raise ValueError(f"ratio.high: {self.ratio.high:g} leaves nothing for the other components; "
+                                 "expected less than 1")
+        prices = [c.price for c in self.component]
+        if any(p is not None for p in prices):
+            cur = {price_currency(p) for p in prices if p is not None}
+            if len(cur) > 1:
+                raise ValueError(f"component: prices in different currencies ({', '.join(sorted(cur))}); "
+                                 "expected one currency for the whole blend")
+        return self
+
+    @property
+    def beta(self) -> float:
+        return 0.0 if self.interaction is None else self.interaction.si
+
+    @property
+    def currency(self) -> str:
+        cur = [price_currency(c.price) for c in self.component if c.price is not None]
+        return cur[0] if cur else ""
+
+    def index(self, name: str) -> int:
+        """The position of a component by name."""
+        return [c.name.strip() for c in self.component].index(name.strip())
+
+    @property
+    def priced(self) -> bool:
+        return all(c.price is not None for c in self.component)
+
+
 class Target(Section):
     coverage: Fraction01 | None = None
     tension: Q("tension", gt=0) | None = None
@@ -493,7 +636,8 @@ class Case(Section):
     case: CaseInfo
     batch: Batch
     drops: Drops
-    surfactant: Surfactant
+    surfactant: Surfactant | None = None
+    blend: BlendSection | None = None
     target: Target
     recommendation: Recommendation = Field(default_factory=Recommendation)
     trial: Trial = Field(default_factory=Trial)
@@ -506,9 +650,25 @@ class Case(Section):
     _provenance: dict | None = None
     _raw: dict | None = None
 
+    @model_validator(mode="after")
+    def _one_active(self):
+        if (self.surfactant is None) == (self.blend is None):
+            raise ValueError("give exactly one of [surfactant] (one surfactant) or [blend] (several "
+                             "[[blend.component]]); got " + ("both" if self.surfactant else "neither"))
+        return self
+
     @property
     def base_dir(self) -> Path | None:
         return self._base_dir
+
+    @property
+    def active_name(self) -> str:
+        """The name of what is charged: the surfactant's or the blend's."""
+        return self.blend.name if self.blend is not None else self.surfactant.name
+
+    @property
+    def currency(self) -> str:
+        return self.blend.currency if self.blend is not None else self.surfactant.currency
 
     @property
     def provenance(self) -> dict | None:
@@ -530,6 +690,12 @@ class Case(Section):
                 v = getattr(section, key)
                 if isinstance(v, Value):
                     out[f"{section_name}.{key}"] = v
+        if self.blend is not None:
+            for i, comp in enumerate(self.blend.component):
+                for key in type(comp).model_fields:
+                    v = getattr(comp, key)
+                    if isinstance(v, Value):
+                        out[f"blend.component[{i}].{key}"] = v
         return out
 
     def spreads(self) -> dict[str, Value]:
@@ -542,9 +708,9 @@ class Case(Section):
 
 
 def _describe(v: Any) -> str:
-    if isinstance(v, Value):
-        return repr(v.raw)
-    return repr(v)
+    """A short, printable excerpt of a given value for an error line (never the whole text)."""
+    raw = v.raw if isinstance(v, Value) else v
+    return token(raw, 80) if isinstance(raw, str) else token(repr(raw), 80)
 
 
 def _suggest(key: str, options) -> str:
@@ -555,6 +721,8 @@ def _suggest(key: str, options) -> str:
 def _model_for(loc: tuple) -> type[BaseModel] | None:
     model: Any = Case
     for part in loc[:-1]:
+        if isinstance(part, int):  # a list item, e.g. blend.component[0]
+            continue
         field = model.model_fields.get(part) if hasattr(model, "model_fields") else None
         if field is None:
             return None
@@ -566,12 +734,20 @@ def _model_for(loc: tuple) -> type[BaseModel] | None:
     return model if isinstance(model, type) and issubclass(model, BaseModel) else None
 
 
+def _toml_path(loc: tuple) -> str:
+    """``("blend", "component", 0, "cmc")`` -> ``"blend.component[0].cmc"``."""
+    out = ""
+    for p in loc:
+        out += f"[{p}]" if isinstance(p, int) else (f".{p}" if out else str(p))
+    return out or "case file"
+
+
 def format_errors(exc: ValidationError) -> list[str]:
     """Turn a pydantic error into one line per problem, naming the TOML path."""
     lines = []
     for err in exc.errors(include_url=False):
         loc = tuple(p for p in err["loc"] if isinstance(p, str) or isinstance(p, int))
-        path = ".".join(str(p) for p in loc) or "case file"
+        path = _toml_path(loc)
         kind = err["type"]
         if kind == "extra_forbidden":
             model = _model_for(loc)

@@ -16,11 +16,50 @@ import numpy as np
 from .case import point_x, read_size_table, table_path
 from .errors import InputError
 from .physics import balance, distribution, isotherm, phases
+from .physics import blend as blend_physics
 from .physics.dropsize import PowerLawFit, fit_power_law, stirred_tank_ratio, stirred_tank_speed
 from .physics.properties import water_surface_tension
 from .units import NumberFormatError, parse
 
 AIR_DENSITY = 1.2  # kg/m**3, near 20 C and 1 atm (common practice), default for foam bubbles
+
+
+@dataclass(frozen=True)
+class BlendInputs:
+    """The components of a ``[blend]`` in SI; per-component arrays carry the components on the last axis.
+
+    Attributes
+    ----------
+    names : component names, in case order
+    mole_fractions : alpha_i of the active blend [-] (sum 1)
+    molar_mass : M_i [kg/mol]; active_fraction : active per product mass as delivered [-]
+    cmc : C_i [mol/m**3] (inf: no micelles); max_surface_excess : Gamma_inf_i [mol/m**2]
+    adsorption_constant : K_i [m**3/mol]; partition_coefficient : P_i = c_oil/c_water [-]
+    gibbs_prefactor : n_i [-]; price : currency per kg of each product (nan when not given)
+    micelles : 'ideal' or 'regular'; interaction : beta of the mixed micelle [-]
+    """
+
+    names: tuple
+    mole_fractions: object
+    molar_mass: object
+    active_fraction: object
+    cmc: object
+    max_surface_excess: object
+    adsorption_constant: object
+    partition_coefficient: object
+    gibbs_prefactor: object
+    price: object
+    micelles: str = "ideal"
+    interaction: object = 0.0
+
+    @property
+    def size(self) -> int:
+        return len(self.names)
+
+    @property
+    def product_mass_per_mol(self):
+        """kg of each product per mol of the whole blend's active, ``alpha_i M_i / a_i`` [kg/mol]."""
+        return np.asarray(self.mole_fractions) * np.asarray(self.molar_mass) / np.asarray(self.active_fraction)
 
 
 @dataclass(frozen=True)
@@ -69,6 +108,7 @@ class Inputs:
     size_stats: distribution.SizeStats | None = field(default=None, compare=False)
     clean_tension_source: str = "case"
     lab_d32: object = math.nan  # [m] the case's own d32 when [scaleup] replaces it by the plant d32
+    blend: BlendInputs | None = field(default=None, compare=False)  # set for a [blend] case
 
     def with_values(self, **changes) -> "Inputs":
         """Return a copy with some fields replaced (e.g. ``d32=np.array([...])``)."""
@@ -170,6 +210,32 @@ def inputs_from_values(case, values: dict) -> Inputs:
         volume = values["batch.volume"]
     else:
         volume = values["batch.mass"] / ((1 - np.asarray(phi)) * rho_c + np.asarray(phi) * rho_d)
+    temperature = values["batch.temperature"]
+    if c.blend is not None:
+        act = _blend_values(c, values)
+        gamma0 = _get(values, "blend.clean_tension")
+        given_tension = c.blend.clean_tension is not None
+    else:
+        act = _surfactant_values(c, values)
+        gamma0 = _get(values, "surfactant.clean_tension")
+        given_tension = c.surfactant.clean_tension is not None
+    source = "case"
+    if not given_tension and c.case.system == "foam":
+        gamma0 = water_surface_tension(temperature)
+        source = "IAPWS R1-76(2014) water at the batch temperature"
+    kind = c.target.kind
+    return Inputs(
+        system=c.case.system, continuous=c.case.continuous, target_kind=kind,
+        volume=volume, dispersed_fraction=phi, temperature=temperature,
+        continuous_density=rho_c, dispersed_density=rho_d, d32=d32,
+        shape_factor=values["drops.shape_factor"], clean_tension=gamma0,
+        target_value=values[f"target.{kind}"], margin=values["target.margin"], size_stats=stats,
+        clean_tension_source=source, lab_d32=lab_d32, **act,
+    )
+
+
+def _surfactant_values(c, values: dict) -> dict:
+    """The :class:`Inputs` fields of a single ``[surfactant]``."""
     molar_mass = values["surfactant.molar_mass"]
     s = c.surfactant
     if s.max_surface_excess is not None:
@@ -178,27 +244,70 @@ def inputs_from_values(case, values: dict) -> Inputs:
             gi = np.asarray(gi) / np.asarray(molar_mass)
     else:
         gi = isotherm.surface_excess_from_area(values["surfactant.area_per_molecule"])
-    temperature = values["batch.temperature"]
-    gamma0 = _get(values, "surfactant.clean_tension")
-    source = "case"
-    if s.clean_tension is None and c.case.system == "foam":
-        gamma0 = water_surface_tension(temperature)
-        source = "IAPWS R1-76(2014) water at the batch temperature"
-    kind = c.target.kind
-    model = isotherm.check_model(s.isotherm, values["surfactant.interaction"])
-    return Inputs(
-        system=c.case.system, continuous=c.case.continuous, model=model, target_kind=kind,
-        volume=volume, dispersed_fraction=phi, temperature=temperature,
-        continuous_density=rho_c, dispersed_density=rho_d, d32=d32,
-        shape_factor=values["drops.shape_factor"], molar_mass=molar_mass,
-        active_fraction=values["surfactant.active_fraction"],
+    return dict(
+        model=isotherm.check_model(s.isotherm, values["surfactant.interaction"]),
+        molar_mass=molar_mass, active_fraction=values["surfactant.active_fraction"],
         cmc=_get(values, "surfactant.cmc", math.inf), max_surface_excess=gi,
         adsorption_constant=values["surfactant.adsorption_constant"],
         interaction=values["surfactant.interaction"], gibbs_prefactor=values["surfactant.gibbs_prefactor"],
-        partition_coefficient=values["surfactant.partition_coefficient"], clean_tension=gamma0,
-        target_value=values[f"target.{kind}"], margin=values["target.margin"],
-        price_per_kg=_get(values, "surfactant.price_per_kg"), size_stats=stats,
-        clean_tension_source=source, lab_d32=lab_d32,
+        partition_coefficient=values["surfactant.partition_coefficient"],
+        price_per_kg=_get(values, "surfactant.price_per_kg"),
+    )
+
+
+def _stack(arrays):
+    """Stack per-component values (floats or arrays) on a new last axis."""
+    return np.stack(np.broadcast_arrays(*[np.asarray(a, dtype=float) for a in arrays]), axis=-1)
+
+
+def _blend_values(c, values: dict) -> dict:
+    """The :class:`Inputs` fields of a ``[blend]``: per-component arrays and blend-level equivalents.
+
+    The blend's equivalents make every dose conversion of a single surfactant hold for the whole
+    blend: ``molar_mass`` is the mean ``sum alpha_i M_i``, ``active_fraction`` the active share of
+    the products charged together, ``price_per_kg`` their mass-weighted price, ``cmc`` the mixed
+    CMC in the continuous phase alone.  Isotherm constants of the blend as a whole do not exist
+    (nan); :func:`solve` uses the components.
+    """
+    bl = c.blend
+    comps = bl.component
+
+    def col(key, default=math.nan):
+        return _stack([_get(values, f"blend.component[{i}].{key}", default) for i in range(len(comps))])
+
+    mm = col("molar_mass")
+    frac = col("fraction")
+    frac = frac / np.sum(frac, axis=-1, keepdims=True)
+    alpha = frac if bl.fractions == "mole" else (frac / mm) / np.sum(frac / mm, axis=-1, keepdims=True)
+    gis = []
+    for i, comp in enumerate(comps):
+        if comp.max_surface_excess is not None:
+            g = values[f"blend.component[{i}].max_surface_excess"]
+            if comp.max_surface_excess.dimension == "surface_load":
+                g = np.asarray(g) / np.asarray(values[f"blend.component[{i}].molar_mass"])
+        else:
+            g = isotherm.surface_excess_from_area(values[f"blend.component[{i}].area_per_molecule"])
+        gis.append(g)
+    active = col("active_fraction")
+    price = col("price")
+    cmc = col("cmc", math.inf)
+    beta = _get(values, "blend.interaction", 0.0)
+    bi = BlendInputs(
+        names=tuple(comp.name for comp in comps), mole_fractions=alpha, molar_mass=mm,
+        active_fraction=active, cmc=cmc, max_surface_excess=_stack(gis),
+        adsorption_constant=col("adsorption_constant"), partition_coefficient=col("partition_coefficient"),
+        gibbs_prefactor=col("gibbs_prefactor"), price=price, micelles=bl.micelles, interaction=beta,
+    )
+    m_mean = np.sum(alpha * mm, axis=-1)
+    per_mol = bi.product_mass_per_mol
+    product = np.sum(per_mol, axis=-1)
+    with np.errstate(invalid="ignore"):
+        mixed = blend_physics.mixed_cmc(alpha, cmc, bl.micelles, beta)[0] if np.any(np.isfinite(cmc)) else math.inf
+    return dict(
+        model="langmuir", molar_mass=m_mean, active_fraction=m_mean / product, cmc=mixed,
+        max_surface_excess=math.nan, adsorption_constant=math.nan, interaction=0.0,
+        gibbs_prefactor=math.nan, partition_coefficient=math.nan,
+        price_per_kg=np.sum(per_mol * price, axis=-1) / product, blend=bi,
     )
 
 
@@ -209,8 +318,31 @@ def case_inputs(case, overrides: dict | None = None) -> Inputs:
     if unknown:
         known = sorted(set(values) | set(OVERRIDABLE_EXTRA))
         raise InputError(f"{unknown[0]}: not a numeric field of this case; expected one of {', '.join(known)}")
+    originals = dict(values)
     values.update(overrides or {})
+    if getattr(case, "blend", None) is not None:
+        _rescale_fractions(case, values, originals, overrides or {})
     return inputs_from_values(case, values)
+
+
+def _rescale_fractions(case, values: dict, originals: dict, overrides: dict) -> None:
+    """Keep a blend's fractions adding up to 1 when some are overridden (a sweep, a what-if).
+
+    The overridden components hold their new fractions; the others keep their proportions and
+    share the rest.  When every fraction is overridden (a Monte Carlo draw) they are normalised.
+    """
+    paths = [f"blend.component[{i}].fraction" for i in range(len(case.blend.component))]
+    held = [p for p in paths if p in overrides]
+    if not held or len(held) == len(paths):
+        return
+    held_sum = sum(np.asarray(values[p], dtype=float) for p in held)
+    if np.any(held_sum >= 1.0) or np.any(held_sum < 0):
+        raise InputError(f"{held[0]}: the fractions given add up to {float(np.max(held_sum)):g}; expected "
+                         "less than 1, so that the other components keep a share")
+    rest = [p for p in paths if p not in held]
+    base = sum(originals[p] for p in rest)
+    for p in rest:
+        values[p] = (originals[p] / base if base > 0 else 1.0 / len(rest)) * (1.0 - held_sum)
 
 
 # fields that may be overridden although the case does not give them
@@ -231,6 +363,8 @@ class Solution:
     state : :class:`sizing.balance.BalanceState` (at the CMC ceiling where infeasible)
     dose_mol : dose of active [mol] (nan where infeasible)
     surface_excess [mol/m**2], tension [N/m] (nan when no clean tension is known)
+    components : for a blend, :class:`sizing.physics.blend.BlendState` (components on the last
+    axis); ``state`` then holds the totals and ``max_coverage`` the largest total coverage found
     """
 
     inputs: Inputs
@@ -245,6 +379,7 @@ class Solution:
     dose_mol: np.ndarray
     surface_excess: np.ndarray
     tension: np.ndarray
+    components: object = None  # a blend's per-component state (sizing.physics.blend.BlendState)
 
     # dose in the units an engineer charges --------------------------------------------------
     @property
@@ -349,6 +484,8 @@ def solve(inputs: Inputs, dose_mol=None) -> Solution:
     Solution
         Arrays broadcast over every array-valued input (and ``dose_mol``).
     """
+    if inputs.blend is not None:
+        return _solve_blend(inputs, dose_mol)
     vc, vd, area, kw = _common(inputs)
     cmc = np.asarray(inputs.cmc, dtype=float)
     theta_max = balance.max_coverage(inputs.adsorption_constant, cmc, inputs.model, inputs.interaction)
@@ -377,6 +514,106 @@ def solve(inputs: Inputs, dose_mol=None) -> Solution:
         dispersed_volume=np.broadcast_to(vd, shape), state=state,
         dose_mol=np.broadcast_to(dose, shape), surface_excess=gamma, tension=tension,
     )
+
+
+def blend_physics_of(inputs: Inputs):
+    """The physics blend of a blend case's inputs, with each component's uptake."""
+    bi = inputs.blend
+    p = np.asarray(bi.partition_coefficient, dtype=float)
+    if inputs.system == "emulsion" and inputs.continuous == "oil" and np.any(p <= 0):
+        i = int(np.argmax(np.any(np.reshape(p <= 0, (-1, bi.size)), axis=0)))
+        raise InputError(f"blend.component[{i}].partition_coefficient: 0 means {bi.names[i]!r} does not "
+                         "dissolve in oil, so it cannot be dosed into the continuous oil of a W/O emulsion; "
+                         "expected P > 0 (c_oil/c_water)")
+    uptake = phases.dispersed_uptake(inputs.system, inputs.continuous, p)
+    return blend_physics.Blend(bi.mole_fractions, bi.cmc, bi.max_surface_excess, bi.adsorption_constant,
+                               uptake, bi.micelles, bi.interaction)
+
+
+def _solve_blend(inputs: Inputs, dose_mol=None) -> Solution:
+    """:func:`solve` for a blend: the state of every component, totals in ``state``."""
+    bi = inputs.blend
+    vc, vd = phases.phase_volumes(inputs.volume, inputs.dispersed_fraction)
+    area = distribution.interfacial_area(inputs.d32, vd, inputs.shape_factor)
+    bl = blend_physics_of(inputs)
+    # one common shape for every per-case array, so the flat rows of the solver line up
+    shape = np.broadcast_shapes(np.shape(vc), np.shape(vd), np.shape(area), np.shape(inputs.temperature),
+                                np.shape(inputs.clean_tension), np.shape(inputs.target_value),
+                                np.shape(bi.interaction),
+                                *(np.shape(x)[:-1] for x in (bl.fractions, bl.cmc, bl.max_surface_excess,
+                                                              bl.adsorption_constant, bl.uptake)),
+                                np.shape(dose_mol) if dose_mol is not None else ())
+    vc_b, vd_b, area_b = (np.broadcast_to(x, shape) for x in (vc, vd, area))
+    geo = dict(continuous_volume=vc_b, dispersed_volume=vd_b, area=area_b)
+    gis = np.broadcast_to(bi.max_surface_excess, shape + (bi.size,))
+    ns = np.broadcast_to(bi.gibbs_prefactor, shape + (bi.size,))
+    temp = np.broadcast_to(np.asarray(inputs.temperature, dtype=float), shape)
+
+    def pressure(state, rows=None):
+        if rows is None:
+            return blend_physics.surface_pressure(state, gis, temp, ns)
+        g, n, t = gis.reshape(-1, bi.size)[rows], ns.reshape(-1, bi.size)[rows], temp.reshape(-1)[rows]
+        return blend_physics.surface_pressure(state, g, t, n)
+
+    if dose_mol is None:
+        mode = "target"
+        kind = inputs.target_kind
+        value = np.broadcast_to(np.asarray(inputs.target_value, dtype=float), shape)
+        if kind == "tension":
+            gamma0 = np.broadcast_to(np.asarray(inputs.clean_tension, dtype=float), shape)
+            if np.any(~np.isfinite(gamma0)):
+                raise InputError("target.tension: a tension target needs blend.clean_tension (the tension of "
+                                 "the clean interface, e.g. '50 mN/m'); for a foam it defaults to water at the "
+                                 "batch temperature")
+            if np.any(value >= gamma0):
+                raise InputError(f"target.tension: {float(np.max(value)) * 1e3:g} mN/m is not below the clean "
+                                 f"tension {float(np.min(gamma0)) * 1e3:g} mN/m; expected a tension the blend can reach")
+            dose, feasible, _, best_dose = blend_physics.dose_for_target("pressure", gamma0 - value, bl,
+                                                                         pressure_fn=pressure, **geo)
+        else:
+            dose, feasible, _, best_dose = blend_physics.dose_for_target(kind, value, bl, **geo)
+        if kind == "coverage":
+            best_cov = blend_physics.dose_for_target("coverage", value, bl, **geo)[2]
+        else:
+            best_cov = blend_physics.dose_for_target("coverage", np.full(shape, 1.0 - 1e-12), bl, **geo)[2]
+        n_eval = np.where(feasible, dose, best_dose)
+        comp = blend_physics.state_for_dose(np.where(np.isfinite(n_eval), n_eval, 0.0), bl, **geo)
+        theta_max = np.where(feasible & (kind == "coverage"), np.maximum(best_cov, value), best_cov)
+    else:
+        mode = "dose"
+        dose = np.asarray(dose_mol, dtype=float)
+        if np.any(dose < 0) or np.any(~np.isfinite(dose)):
+            raise InputError(f"--dose: expected an amount >= 0, got {float(np.min(dose))!r} mol")
+        comp = blend_physics.state_for_dose(dose, bl, **geo)
+        feasible = np.ones(shape, dtype=bool)
+        theta_max = blend_physics.dose_for_target("coverage", np.full(shape, 1.0 - 1e-12), bl, **geo)[2]
+    state = balance.BalanceState(*(np.sum(getattr(comp, f), axis=-1) for f in (
+        "free_concentration", "coverage", "continuous_mol", "dispersed_mol", "interface_mol", "micelle_mol")))
+    gamma = np.sum(comp.coverage * gis, axis=-1)
+    tension = np.asarray(inputs.clean_tension, dtype=float) - pressure(comp)
+    return Solution(
+        inputs=inputs, mode=mode, feasible=np.broadcast_to(feasible, shape),
+        max_coverage=np.broadcast_to(theta_max, shape), d32=np.broadcast_to(inputs.d32, shape),
+        area=area_b, continuous_volume=vc_b, dispersed_volume=vd_b, state=state,
+        dose_mol=np.broadcast_to(dose, shape), surface_excess=gamma, tension=tension, components=comp,
+    )
+
+
+def onset_dose_mol(inputs: Inputs):
+    """Return the dose [mol] at which micelles first form in the batch (inf without a CMC).
+
+    For one surfactant this is the dose that leaves the free monomer at the CMC; for a blend the
+    onset of mixed micelles at the charged composition, with water, oil and interface served.
+    """
+    if inputs.blend is not None:
+        vc, vd = phases.phase_volumes(inputs.volume, inputs.dispersed_fraction)
+        area = distribution.interfacial_area(inputs.d32, vd, inputs.shape_factor)
+        return blend_physics.onset_dose(blend_physics_of(inputs), continuous_volume=vc, dispersed_volume=vd,
+                                        area=area)
+    cmc = np.asarray(inputs.cmc, dtype=float)
+    if not np.all(np.isfinite(cmc)):
+        return np.where(np.isfinite(cmc), np.nan, np.inf) + np.zeros(np.shape(cmc))
+    return solve(inputs.with_values(target_kind="free_concentration", target_value=cmc)).dose_mol
 
 
 def parse_dose(text, molar_mass: float, field: str = "--dose") -> float:

@@ -202,7 +202,7 @@ def test_demo_case_replaces_d32_and_cli_json(capsys):
           plant_diameter="1 m"), "plant_speed is needed"),
     (dict(method="mixer"), "scaleup.method"),
     (dict(method="power_law", variable="pressure", points=[{"pressure": "300 bar", "d32": "-2 um"}],
-          plant="600 bar"), r"scaleup.points.0.d32"),
+          plant="600 bar"), r"scaleup\.points\[0\]\.d32"),
 ])
 def test_bad_scaleup_sections_are_named(keys, message):
     with pytest.raises(InputError, match=message):

@@ -51,7 +51,7 @@ def describe(plan) -> str:
                   "  the charge below is built on the dose that reaches the CMC ceiling; options:"]
         lines += [f"  - {o}" for o in plan.options]
     lines += [
-        f"  recommended charge     {u(r.kg_product_per_batch, 'kg')} of {plan.case.surfactant.name} per batch",
+        f"  recommended charge     {u(r.kg_product_per_batch, 'kg')} of {plan.case.active_name} per batch",
         f"  active                 {u(r.kg_active_per_batch, 'kg')} ({u(r.mol_per_batch, 'mol')})",
         f"  built on               {u(r.base_kg_product, 'kg')} product"
         f" {'at the CMC ceiling' if not plan.feasible else ('covering P%g of the spreads' % plan.uncertainty.monte_carlo.percentile) if plan.uncertainty is not None else 'for the target'}, margin {r.margin * 100:.3g} %, "
@@ -61,6 +61,16 @@ def describe(plan) -> str:
         f"  cost per batch         {u(r.cost_per_batch, r.currency, digits=5)}",
         f"  coverage at the charge {u(r.coverage_at_charge, '(-)')}, free monomer "
         f"{u(r.free_concentration_at_charge, 'mM')}",
+    ]
+    if plan.blend is not None:
+        lines += [f"    {c.name:<20} {u(c.kg_product, 'kg')} product ({u(c.kg_active, 'kg')} active)"
+                  for c in plan.blend.components]
+        ch = plan.blend.cheapest
+        if ch is not None and math.isfinite(ch.fraction):
+            lines.append(f"  cheapest ratio         {ch.component} at {ch.fraction:.3g} ({ch.basis} fraction): "
+                         f"{u(ch.cost_per_batch, ch.currency, digits=5)} per batch before margin"
+                         + (" (at an end of the range)" if ch.at_bound else ""))
+    lines += [
         "",
         "  trial levels: " + ", ".join(f"{t.level:g} x = {u(t.kg_product, 'kg')} (coverage {t.coverage:.3f})"
                                        for t in plan.trial),

@@ -21,10 +21,17 @@ from ..errors import InputError
 from ..files import inside, read_regular
 from ..fitting.block import plot_svg_for_provenance
 from ..physics.phases import phase_names
+from ..planning.blendplan import split_kg_active
 from ..planning.plan import plan_warnings
 from ..version import __version__
 from .htmlbits import CSS, chart, esc, q, section, table  # noqa: F401  (q: re-exported)
-from .report_parts import render_achievable, render_adsorption, render_scaleup, render_uncertainty
+from .report_parts import (
+    render_achievable,
+    render_adsorption,
+    render_blend,
+    render_scaleup,
+    render_uncertainty,
+)
 from .solve_json import solution_json
 
 # ---------------------------------------------------------------------------------------------
@@ -47,7 +54,7 @@ def render_summary(plan) -> str:
     else:
         target = q(t["value_si"], "mM (free monomer)")
     lead = (f'<p class="big">Charge {esc(q(r.kg_product_per_batch, "kg"))} of '
-            f'{esc(c.surfactant.name)} per batch ({esc(q(r.kg_active_per_batch, "kg"))} active)</p>')
+            f'{esc(c.active_name)} per batch ({esc(q(r.kg_active_per_batch, "kg"))} active)</p>')
     if not plan.feasible:
         lead += ('<p class="warn"><b>Target not reachable at equilibrium.</b> This charge is built on the '
                  'dose that just reaches the CMC ceiling; see "Target not reachable" below.</p>')
@@ -101,6 +108,22 @@ def render_case(plan) -> str:
         ("area per m**3 of dispersion", q(area["per_m3_dispersion_m2_m3"], "m**2/m**3")),
         ("area per m**3 of continuous phase", q(area["per_m3_continuous_m2_m3"], "m**2/m**3")),
         ("area per kg of dispersed phase", q(area["per_kg_dispersed_m2_kg"], "m**2/kg")),
+    ]
+    if plan.blend is not None:
+        b = j["blend"]
+        rows += [
+            ("blend", plan.case.active_name),
+            ("interface", "competitive Langmuir"),
+            ("mixed micelles", "ideal (Clint)" if b["micelles"] == "ideal"
+             else f"regular solution (Rubingh), beta = {b['interaction']:g}"),
+            ("mixed CMC at the charged composition (continuous phase alone)", q(b["mixed_cmc_mol_m3"], "mM")),
+            ("largest coverage found", q(j["max_coverage"], "(-)")),
+            ("clean-interface tension", q(s["clean_tension_N_m"], "mN/m", scale=1e3)),
+            ("mean molar mass of the active", q(s["molar_mass_kg_mol"], "g/mol", scale=1e3)),
+            ("active fraction of the products together", q(s["active_fraction"], "(-)")),
+        ]
+        return section("case", "The case as resolved", table(rows) + _component_table(plan))
+    rows += [
         ("isotherm", s["model"]),
         ("maximum surface excess", q(s["max_surface_excess_mol_m2"], "umol/m**2", scale=1e6)
          + f" ({q(s['max_surface_excess_mol_m2'] * s['molar_mass_kg_mol'], 'mg/m**2', scale=1e6)})"),
@@ -115,14 +138,37 @@ def render_case(plan) -> str:
     return section("case", "The case as resolved", table(rows))
 
 
+def _component_table(plan) -> str:
+    """The components of a blend as the case gives them (SI shown in the units people use)."""
+    bi = plan.inputs.blend
+    m = bi.size
+
+    def col(x):
+        return np.asarray(x, dtype=float).reshape(-1, m)[0]
+
+    alpha, mm, act, cmc = col(bi.mole_fractions), col(bi.molar_mass), col(bi.active_fraction), col(bi.cmc)
+    gi, k, p, price = col(bi.max_surface_excess), col(bi.adsorption_constant), col(bi.partition_coefficient), col(bi.price)
+    rows = []
+    for j, name in enumerate(bi.names):
+        rows.append((name, q(alpha[j], ""), q(mm[j] * 1e3, ""), q(act[j], ""),
+                     q(cmc[j], "") if math.isfinite(cmc[j]) else "none", q(gi[j] * 1e6, ""), q(k[j], ""),
+                     q(p[j], ""), q(price[j], "") if math.isfinite(price[j]) else "-"))
+    head = ("component", "mole fraction [-]", "molar mass [g/mol]", "active fraction [-]", "CMC [mM]",
+            "Gamma_inf [umol/m**2]", "K [m**3/mol]", "P c_oil/c_water [-]",
+            f"price [{plan.case.currency or 'currency'}/kg product]")
+    return table(rows, head, numeric_cols=(1, 2, 3, 4, 5, 6, 7, 8))
+
+
 _SPLIT_COLORS = {"water": "#4c8bd6", "oil": "#d6a04c", "interface": "#4caf50", "micelles": "#9c6ad6"}
 
 
 def render_split(plan) -> str:
     r = plan.recommendation
-    M = float(np.asarray(plan.inputs.molar_mass))
-    at_target = solution_json(plan.solution, plan.case)["split_mol"]
-    at_charge = r.split_mol_at_charge
+    # active mass per place; a blend's components count with their own molar masses
+    at_target = split_kg_active(plan.solution)
+    at_charge = plan.blend.split_kg_at_charge if plan.blend is not None else {
+        k: (v or 0.0) * float(np.asarray(plan.inputs.molar_mass)) for k, v in r.split_mol_at_charge.items()}
+    M = 1.0
     rows = []
     for k in ("water", "oil", "interface", "micelles"):
         a = at_target.get(k) or 0.0
@@ -329,7 +375,7 @@ def render_cautions(plan) -> str:
 
 
 #: The report's sections, in order (each ``(plan) -> str``, '' to skip).
-SECTIONS = (render_summary, render_case, render_split, render_coverage_chart, render_d32_chart,
+SECTIONS = (render_summary, render_case, render_split, render_blend, render_coverage_chart, render_d32_chart,
             render_trial, render_scaleup, render_achievable, render_uncertainty, render_adsorption,
             render_unreachable, render_assumptions, render_cautions)
 

@@ -6,6 +6,8 @@ its part is absent (``None``).
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from .htmlbits import chart, esc, q, section, table
@@ -140,3 +142,98 @@ def render_adsorption(plan) -> str:
     cls = "warn" if j["optimistic"] else "muted"
     body = f'<p class="{cls}">{esc(j["message"])}</p>' + table(rows)
     return section("adsorption", "Adsorption speed", body)
+
+
+_PLACE_COLORS = {"water": "#4c8bd6", "oil": "#d6a04c", "interface": "#4caf50", "micelles": "#9c6ad6"}
+_COMPONENT_COLORS = ("#1f5fa8", "#d35400", "#27ae60", "#8e44ad", "#c0392b", "#16a085", "#7f8c8d", "#f39c12")
+
+
+def render_blend(plan) -> str:
+    """The blend: charge per component, where each goes, interface composition, apparent CMC, ratio."""
+    part = plan.blend
+    if part is None:
+        return ""
+    r = plan.recommendation
+    comps = part.components
+    rows = [(c.name, q(c.kg_product, "kg"), q(c.kg_active, "kg"), q(100 * c.mass_fraction, "%", 3),
+             q(c.coverage, "(-)")) for c in comps]
+    body = (f"<p>Charge each product separately: the blend total {esc(q(r.kg_product_per_batch, 'kg'))} "
+            "splits as below (the trial levels are multiples of the whole blend at this ratio).</p>")
+    body += table(rows, ("component", "product per batch [kg]", "active per batch [kg]",
+                         "share of the active [% by mass]", "interface share at the charge [-]"),
+                  numeric_cols=(1, 2, 3, 4))
+    places = ("water", "oil", "interface", "micelles")
+
+    def draw_split(fig):
+        ax = fig.add_subplot()
+        names = [c.name for c in comps]
+        left = np.zeros(len(comps))
+        for k in places:
+            vals = np.array([c.split_mol[k] * (c.kg_active / c.mol if c.mol > 0 else 0.0) for c in comps])
+            if np.all(vals == 0):
+                continue
+            ax.barh(names, vals, left=left, color=_PLACE_COLORS[k], label=k)
+            left += vals
+        ax.set_xlabel("active per batch at the recommended charge [kg]")
+        ax.legend(loc="lower right", fontsize=8)
+        ax.invert_yaxis()
+
+    body += chart(draw_split, "Where each component goes at the recommended charge [kg active per batch].")
+    dose, cov = part.dose_kg_product, part.coverage_by_component
+
+    def draw_cov(fig):
+        ax = fig.add_subplot()
+        ax.stackplot(dose, cov.T, labels=[c.name for c in comps],
+                     colors=[_COMPONENT_COLORS[j % len(_COMPONENT_COLORS)] for j in range(len(comps))], alpha=0.8)
+        ax.axvline(r.kg_product_per_batch, color="#c0392b", ls="--", lw=1,
+                   label=f"charge {q(r.kg_product_per_batch, 'kg')}")
+        if math.isfinite(part.onset_kg_product):
+            ax.axvline(part.onset_kg_product, color="#7d3c98", ls=":", lw=1,
+                       label=f"mixed micelles from {q(part.onset_kg_product, 'kg')}")
+        ax.set_xlim(0, dose[-1])
+        ax.set_ylim(0, 1)
+        ax.set_xlabel("blend charged per batch [kg product]")
+        ax.set_ylabel("coverage theta_i [-] (stacked)")
+        ax.legend(loc="lower right", fontsize=7)
+
+    body += chart(draw_cov, "Interface composition against the blend charged: each band is one component's "
+                            "share of the interface (the top edge is the total coverage). Above the onset of "
+                            "mixed micelles the monomer composition keeps moving, so the total can fall.")
+    if part.apparent_cmc.size and np.all(np.isfinite(part.apparent_cmc)):
+        def draw_app(fig):
+            ax = fig.add_subplot()
+            ax.plot(part.oil_water_ratio, part.apparent_cmc, color="#1f5fa8", label="apparent CMC")
+            ax.axhline(part.mixed_cmc, color="#555", ls=":", lw=1, label=f"in water alone {q(part.mixed_cmc, 'mM')}")
+            if math.isfinite(part.batch_oil_water_ratio):
+                ax.axvline(part.batch_oil_water_ratio, color="#c0392b", ls="--", lw=1,
+                           label=f"this batch, V_oil/V_water = {part.batch_oil_water_ratio:.3g}")
+            ax.set_xlabel("oil/water volume ratio V_oil/V_water [-]")
+            ax.set_ylabel("apparent CMC [mM of water]")
+            ax.legend(fontsize=7)
+
+        body += chart(draw_app, "Apparent CMC of the blend against the oil/water ratio, the interface left "
+                                "out: the oil takes the oil-soluble components, so more blend is needed before "
+                                "micelles form; one reason a lab dose does not carry over to another phase ratio.")
+    ch = part.cheapest
+    if ch is not None:
+        def draw_cost(fig):
+            ax = fig.add_subplot()
+            ax.plot(ch.grid, ch.cost, color="#1f5fa8", label="cost per batch (target met)")
+            if math.isfinite(ch.fraction):
+                ax.plot([ch.fraction], [ch.cost_per_batch], "D", color="#c0392b", ms=6,
+                        label=f"cheapest at {ch.fraction:.3g}")
+            ax.set_xlabel(f"{ch.basis} fraction of {ch.component} in the active blend [-]")
+            ax.set_ylabel(f"blend cost per batch [{ch.currency}]")
+            ax.legend(fontsize=7)
+
+        if math.isfinite(ch.fraction):
+            text = (f"<p>Cheapest ratio in the range given: {esc(ch.component)} at {ch.fraction:.3g} "
+                    f"({ch.basis} fraction of the active), {esc(q(ch.kg_product, 'kg'))} of products for "
+                    f"{esc(q(ch.cost_per_batch, ch.currency, digits=5))} per batch before margin and rounding"
+                    + (" - at an end of the range: the optimum may lie beyond it." if ch.at_bound else ".")
+                    + " Check emulsion stability and any legal limit on each emulsifier before changing the ratio.</p>")
+        else:
+            text = "<p>No ratio in the range given meets the target.</p>"
+        body += text + chart(draw_cost, "Blend cost per batch for the target against the ratio (gaps: target "
+                                        "not met at that ratio).")
+    return section("blend", "The blend", body)

@@ -128,7 +128,42 @@ def plan_json(plan: Plan) -> dict:
         out["uncertainty"] = uncertainty_part_json(plan.case, plan.uncertainty)
     if plan.adsorption is not None:
         out["adsorption"] = adsorption_json(plan.adsorption)
+    if plan.blend is not None:
+        out["recommendation"]["components"] = [
+            {"name": c.name, "kg_product": _num(c.kg_product), "kg_active": _num(c.kg_active), "mol": _num(c.mol),
+             "mass_fraction": _num(c.mass_fraction), "mole_fraction": _num(c.mole_fraction),
+             "coverage": _num(c.coverage), "split_mol": {k: _num(v) for k, v in c.split_mol.items()}}
+            for c in plan.blend.components]
+        share = [c.kg_product / plan.recommendation.kg_product_per_batch
+                 if plan.recommendation.kg_product_per_batch > 0 else float("nan") for c in plan.blend.components]
+        for row in out["trial"]:
+            row["components_kg_product"] = {c.name: _num(row["kg_product"] * sh)
+                                            for c, sh in zip(plan.blend.components, share)}
+        out["blend_plan"] = blend_part_json(plan.blend)
     return out
+
+
+def blend_part_json(part) -> dict:
+    """Return the ``blend_plan`` block of result.json (curves in SI and kg)."""
+    ch = part.cheapest
+    return {
+        "name": part.name, "micelles": part.micelles,
+        "interaction": _num(part.interaction) if part.micelles == "regular" else None,
+        "mixed_cmc_mol_m3": _num(part.mixed_cmc), "onset_kg_product": _num(part.onset_kg_product),
+        "split_kg_active_at_charge": {k: _num(v) for k, v in part.split_kg_at_charge.items()},
+        "interface_composition": {
+            "dose_kg_product": [_num(x) for x in part.dose_kg_product],
+            "coverage": {c.name: [_num(x) for x in part.coverage_by_component[:, j]]
+                         for j, c in enumerate(part.components)}},
+        "apparent_cmc": {"oil_water_ratio": [_num(x) for x in part.oil_water_ratio],
+                         "cmc_mol_m3_water": [_num(x) for x in part.apparent_cmc],
+                         "batch_oil_water_ratio": _num(part.batch_oil_water_ratio)},
+        "cheapest_ratio": None if ch is None else {
+            "component": ch.component, "basis": ch.basis, "fraction": _num(ch.fraction),
+            "fractions": [_num(x) for x in ch.fractions], "cost_per_batch": _num(ch.cost_per_batch),
+            "kg_product": _num(ch.kg_product), "currency": ch.currency, "at_bound": ch.at_bound,
+            "grid": [_num(x) for x in ch.grid], "cost": [_num(x) for x in ch.cost]},
+    }
 
 
 # ---------------------------------------------------------------------------------------------

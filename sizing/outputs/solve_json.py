@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-from ..model import Solution, solution_warnings, split_by_phase
+from ..model import Solution, onset_dose_mol, solution_warnings, split_by_phase
 from ..physics import phases
 from ..texts import unreachable_reason
 from .jsonify import json_number as _num
@@ -74,7 +74,65 @@ def solution_json(sol: Solution, case=None) -> dict:
             "active_fraction": _num(i.active_fraction),
         },
     }
+    if i.blend is not None:
+        out["components"] = components_json(sol)
+        out["blend"] = blend_json(sol)
+        out["surfactant"]["name"] = case.active_name if case is not None else None
     out["warnings"] = solution_warnings(sol)
     if not feasible:
         out["unreachable"] = unreachable_reason(float(sol.max_coverage))
     return out
+
+
+def component_amounts(sol: Solution):
+    """Per-component dose of a scalar blend solution: ``(mol, kg_active, kg_product)`` arrays [mol, kg]."""
+    bi = sol.inputs.blend
+    alpha = np.asarray(bi.mole_fractions, dtype=float).reshape(-1)
+    n = float(np.asarray(sol.dose_mol, dtype=float).reshape(-1)[0])
+    mol = alpha * n
+    kg_active = mol * np.asarray(bi.molar_mass, dtype=float).reshape(-1)
+    return mol, kg_active, kg_active / np.asarray(bi.active_fraction, dtype=float).reshape(-1)
+
+
+def components_json(sol: Solution) -> list[dict]:
+    """The ``components`` list of a blend (case order): dose, free monomer, coverage and split."""
+    bi, comp = sol.inputs.blend, sol.components
+    cont, disp = phases.phase_names(sol.inputs.system, sol.inputs.continuous)
+    feasible = bool(np.all(sol.feasible))
+    mol, kg_a, kg_p = component_amounts(sol)
+
+    def at(x, j):
+        return _num(np.asarray(x, dtype=float).reshape(-1, bi.size)[0, j])
+
+    out = []
+    for j, name in enumerate(bi.names):
+        split = {"water": 0.0, "oil": 0.0}
+        split[cont] = at(comp.continuous_mol, j)
+        if disp in split:
+            split[disp] = at(comp.dispersed_mol, j)
+        split["interface"] = at(comp.interface_mol, j)
+        split["micelles"] = at(comp.micelle_mol, j)
+        out.append({
+            "name": name,
+            "mole_fraction": at(bi.mole_fractions * np.ones(bi.size), j),
+            "dose_mol": _num(mol[j]) if feasible else None,
+            "kg_active": _num(kg_a[j]) if feasible else None,
+            "kg_product": _num(kg_p[j]) if feasible else None,
+            "free_concentration_mol_m3": at(comp.free_concentration, j),
+            "coverage": at(comp.coverage, j),
+            "micelle_fraction": at(comp.micelle_fraction, j),
+            "split_mol": split,
+        })
+    return out
+
+
+def blend_json(sol: Solution) -> dict:
+    """The ``blend`` object: mixed CMC (continuous phase alone), micelle model, onset dose [mol]."""
+    bi = sol.inputs.blend
+    return {
+        "mixed_cmc_mol_m3": _num(sol.inputs.cmc),
+        "micelles": bi.micelles,
+        "interaction": _num(bi.interaction) if bi.micelles == "regular" else None,
+        "onset_dose_mol": _num(onset_dose_mol(sol.inputs)),
+        "components": len(bi.names),
+    }

@@ -30,8 +30,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..model import target_concentration
-from ..physics import phases
+from ..model import blend_physics_of, solve, target_concentration
+from ..physics import blend, phases
 
 
 @dataclass(frozen=True)
@@ -108,6 +108,8 @@ def achievable(inputs, dose_mol) -> Achievable:
     n = np.asarray(dose_mol, dtype=float)
     if np.any(~np.isfinite(n)) or np.any(n < 0):
         raise InputError(f"--dose: expected an amount >= 0, got {float(np.min(n))!r} mol")
+    if inputs.blend is not None:
+        return _achievable_blend(inputs, n)
     vc, vd = phases.phase_volumes(inputs.volume, inputs.dispersed_fraction)
     u = phases.dispersed_uptake(inputs.system, inputs.continuous, inputs.partition_coefficient)
     c_min, theta_min = target_concentration(inputs)
@@ -120,6 +122,36 @@ def achievable(inputs, dose_mol) -> Achievable:
     d_h = np.asarray(inputs.d32, dtype=float)
     knee = loss + np.asarray(inputs.max_surface_excess) * np.asarray(theta_min) * 6.0 * np.asarray(
         inputs.shape_factor) * np.asarray(vd) / d_h
+    shape = np.broadcast_shapes(n.shape, d_s.shape, d_h.shape, np.shape(knee))
+    d = np.maximum(d_h, d_s)
+    limited = np.where(d_s > d_h, "surfactant", "homogeniser")
+    b = lambda x: np.broadcast_to(np.asarray(x), shape)  # noqa: E731
+    return Achievable(dose_mol=b(n), d32=b(d), homogeniser_d32=b(d_h), surfactant_d32=b(d_s),
+                      limited_by=b(limited), knee_dose_mol=b(knee), bulk_loss_mol=b(loss),
+                      min_coverage=b(theta_min), min_concentration=b(c_min), feasible=b(feasible))
+
+
+def _achievable_blend(inputs, n) -> Achievable:
+    """:func:`achievable` for a blend: the area a dose covers at the target's total coverage.
+
+    Below the onset of micelles the total coverage fixes ``w = theta/(1 - theta)`` and the area
+    follows from one monotone root per dose (:func:`sizing.physics.blend.area_for_dose`).
+    """
+    vc, vd = phases.phase_volumes(inputs.volume, inputs.dispersed_fraction)
+    target = solve(inputs)
+    theta_min = np.asarray(target.state.coverage, dtype=float)
+    c_min = np.asarray(target.state.free_concentration, dtype=float)
+    feasible = np.asarray(target.feasible)
+    phys = blend_physics_of(inputs)
+    geo = dict(continuous_volume=vc, dispersed_volume=vd)
+    area = blend.area_for_dose(theta_min, n, phys, **geo)
+    s = np.asarray(inputs.shape_factor, dtype=float)
+    with np.errstate(divide="ignore"):
+        d_s = np.where(area > 0, 6.0 * s * np.asarray(vd) / np.where(area > 0, area, 1.0), np.inf)
+    d_h = np.asarray(inputs.d32, dtype=float)
+    a_h = 6.0 * s * np.asarray(vd) / d_h
+    knee = blend.dose_for_area(theta_min, a_h, phys, **geo)
+    loss = blend.dose_for_area(theta_min, np.zeros_like(a_h), phys, **geo)
     shape = np.broadcast_shapes(n.shape, d_s.shape, d_h.shape, np.shape(knee))
     d = np.maximum(d_h, d_s)
     limited = np.where(d_s > d_h, "surfactant", "homogeniser")

@@ -124,6 +124,8 @@ def adsorption_check(case, solution=None) -> AdsorptionCheck | None:
     Needs ``surfactant.diffusivity`` and ``[process] residence_time``; uses the free monomer and
     surface excess of the solved state (the target, or ``solution`` if given).
     """
+    if case.surfactant is None:  # a blend: one diffusivity per component is not modelled yet
+        return None
     d = case.surfactant.diffusivity
     proc = getattr(case, "process", None)
     t_res = proc.residence_time if proc is not None else None

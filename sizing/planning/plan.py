@@ -28,7 +28,8 @@ import numpy as np
 
 from .. import model
 from ..texts import CAUTIONS, FIELD_LABELS, MODEL_ASSUMPTIONS, unreachable_options
-from . import parts
+from . import blendplan, parts
+from .blendplan import BlendPart
 from .kinetics import AdsorptionCheck
 from .parts import AchievablePart, UncertaintyPart
 from .scaleup import ScaleupResult
@@ -202,6 +203,8 @@ class Plan:
         (:class:`sizing.planning.parts.UncertaintyPart`), None when nothing carries a spread
     adsorption : the adsorption-speed check (:class:`sizing.planning.kinetics.AdsorptionCheck`),
         None without a diffusivity and a residence time (or when the target is unreachable)
+    blend : the charge per component, interface composition, apparent CMC and cheapest ratio of a
+        ``[blend]`` (:class:`sizing.planning.blendplan.BlendPart`), None for one surfactant
     """
 
     case: object
@@ -222,6 +225,7 @@ class Plan:
     achievable: AchievablePart | None = None
     uncertainty: UncertaintyPart | None = None
     adsorption: AdsorptionCheck | None = None
+    blend: BlendPart | None = None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -276,6 +280,11 @@ def case_notes(path) -> str:
 def _raw_has(case, path: str) -> bool:
     raw = getattr(case, "_raw", None) or {}
     section, _, key = path.partition(".")
+    if key.startswith("component[") and isinstance(raw.get(section), dict):  # blend.component[i].key
+        index, _, key = key[len("component["):].partition("].")
+        comps = raw[section].get("component")
+        return (isinstance(comps, list) and index.isdigit() and int(index) < len(comps)
+                and isinstance(comps[int(index)], dict) and key in comps[int(index)])
     return isinstance(raw.get(section), dict) and key in raw[section]
 
 
@@ -302,13 +311,22 @@ def assumptions(case, inputs: model.Inputs) -> list[dict]:
             raw = raw.get("value")
         text = str(raw)
         if path == "surfactant.price_per_kg":
-            text += f" {case.surfactant.currency}/kg"
+            text += f" {case.currency}/kg"
         elif v.dimension == "dimensionless" and not isinstance(raw, str):
             text += " (-)"
         if v.spread is not None:
             text += (f" (log-normal, rel. SD {v.spread[1]:g})" if v.spread[0] == "lognormal"
                      else " (uniform spread)")
         out.append({"path": path, "label": FIELD_LABELS.get(path, path), "value": text, "source": src})
+    if case.blend is not None:
+        bl = case.blend
+        out.append({"path": "blend.micelles", "label": "mixed micelles",
+                    "value": ("ideal (Clint 1975)" if bl.micelles == "ideal" else
+                              f"regular solution (Rubingh 1979), beta = {bl.beta:g}"),
+                    "source": "case file" if _raw_has(case, "blend.micelles") else "default"})
+        out.append({"path": "blend.isotherm", "label": "interface", "value": "competitive Langmuir",
+                    "source": "model (every blend)"})
+        return out
     s = case.surfactant
     out.append({"path": "surfactant.isotherm", "label": "isotherm", "value": inputs.model,
                 "source": "case file" if _raw_has(case, "surfactant.isotherm") else
@@ -369,12 +387,10 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     feasible = bool(np.all(target_sol.feasible))
     _, target_theta = model.target_concentration(inputs)
     cmc = _f(inputs.cmc)
-    # the dose at the CMC ceiling (free monomer = CMC, no micelles): one explicit solve
-    if math.isfinite(cmc):
-        ceil_sol = model.solve(inputs.with_values(target_kind="free_concentration", target_value=cmc))
-        ceiling_kg = _f(ceil_sol.kg_product)
-    else:
-        ceiling_kg = math.nan
+    # the dose at the CMC ceiling (the onset of micelles: for one surfactant free monomer = CMC)
+    kg_per_mol = _f(inputs.molar_mass) / _f(inputs.active_fraction)
+    onset = _f(model.onset_dose_mol(inputs))
+    ceiling_kg = onset * kg_per_mol if math.isfinite(onset) else math.nan
     base_kg = _f(target_sol.kg_product) if feasible else ceiling_kg
     # with spreads the charge covers the chosen percentile of the Monte Carlo
     mc = parts.plan_monte_carlo(case) if feasible else None
@@ -403,7 +419,7 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
         wt_percent_active=_f(np.asarray(fwd.wt_percent_active)[0]), g_per_l=_f(np.asarray(fwd.g_per_l)[0]),
         percent_on_dispersed=_f(np.asarray(fwd.percent_on_dispersed)[0]),
         mg_per_m2=_f(np.asarray(fwd.mg_per_m2)[0]), cost_per_batch=_f(np.asarray(fwd.cost)[0]),
-        currency=case.surfactant.currency, margin=margin, increment_kg=float(increment),
+        currency=case.currency, margin=margin, increment_kg=float(increment),
         increment_source=inc_source, basis="target" if feasible else "cmc_ceiling",
         reaches_target=feasible, base_kg_product=base_kg,
         coverage_at_charge=_f(st.coverage[0]), free_concentration_at_charge=_f(st.free_concentration[0]),
@@ -420,10 +436,10 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     # dose against d32: one target solve over an array of d32 (or of the ceiling when unreachable)
     d32 = _f(inputs.d32) * np.logspace(-np.log10(4.0), np.log10(4.0), d32_points)
     what_if = inputs.with_values(d32=d32)
-    if not feasible:
-        what_if = what_if.with_values(target_kind="free_concentration", target_value=cmc)
-    d32_sol = model.solve(what_if)
-    d32_dose = np.asarray(d32_sol.kg_product, dtype=float)
+    if feasible:
+        d32_dose = np.asarray(model.solve(what_if).kg_product, dtype=float)
+    else:  # the onset of micelles over the d32 range
+        d32_dose = np.asarray(model.onset_dose_mol(what_if), dtype=float) * kg_per_mol
     curves = Curves(
         dose_kg_product=dose_kg, coverage=np.asarray(curve.state.coverage, dtype=float),
         free_concentration=np.asarray(curve.state.free_concentration, dtype=float),
@@ -436,9 +452,11 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
         target_coverage=_f(target_theta), recommendation=rec, trial=trial, curves=curves,
         assumptions=assumptions(case, inputs), model_assumptions=MODEL_ASSUMPTIONS, cautions=CAUTIONS,
         options=opts, case_notes=case_notes(source), source=str(source) if source is not None else "",
-        scaleup=parts.scaleup_part(case), achievable=parts.achievable_part(inputs, trial),
+        scaleup=parts.scaleup_part(case),
+        achievable=parts.achievable_part(inputs, trial),
         uncertainty=parts.uncertainty_part(case, mc, rec.kg_product_per_batch) if mc is not None else None,
         adsorption=parts.adsorption_part(case, target_sol) if feasible else None,
+        blend=blendplan.blend_part(case, inputs, fwd, curve) if inputs.blend is not None else None,
     )
 
 
