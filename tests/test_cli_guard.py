@@ -115,3 +115,13 @@ def test_clean_and_clean_output():
     finally:
         sys.stdout = real
     assert buf.getvalue() == "x?[2Jy\n"
+
+
+def test_guarded_verb_prints_clean_and_hides_warnings(capsys):
+    def verb(args):
+        print("title \x1b[31mred")
+        return int(np.isinf(np.float64(1e308) * 10))
+
+    assert guarded(verb)(argparse.Namespace()) == 1
+    cap = capsys.readouterr()
+    assert cap.out == "title ?[31mred\n" and cap.err == ""

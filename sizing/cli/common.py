@@ -124,17 +124,18 @@ def numeric_guard(args, strict: bool = True):
 
 
 def guarded(func):
-    """Wrap a verb's ``run(args)`` in :func:`numeric_guard` (not strict: it may print as it goes).
+    """Wrap a verb's ``run(args)``: :func:`numeric_guard` (not strict) and :func:`clean_output`.
 
-    For the command line's dispatcher: numpy warnings never reach the terminal and an overflow
-    exception of any verb is one line naming the inputs.  A verb that should also refuse a
-    result reached through an overflow warning puts ``numeric_guard(args)`` (strict) around its
-    computation itself, as ``plan`` and ``solve`` do.
+    For any verb (``p.set_defaults(func=guarded(run))``): numpy warnings never reach the
+    terminal, an overflow exception is one line naming the inputs, and nothing it prints
+    carries control characters.  Not strict, since a verb may print as it goes; a verb that
+    should also refuse a result reached through an overflow warning puts ``numeric_guard(args)``
+    around its computation itself, as ``plan`` and ``solve`` do.
     """
 
     @functools.wraps(func)
     def run(args):
-        with numeric_guard(args, strict=False):
+        with clean_output(), numeric_guard(args, strict=False):
             return func(args)
 
     return run
