@@ -186,3 +186,10 @@ def test_implausible_concentration_is_refused_by_row(tmp_path):
     p.write_text(HEADER + "0.01,0.2\n1e308,0.4\n0.04,0.8\n")
     with pytest.raises(InputError, match=r"row 3, column 'water_concentration \[mM\]'.*accepted range"):
         fit_partition(p)
+
+
+def test_implausible_cmc_option_is_refused(tmp_path, capsys):
+    cw, co = pairs(0)
+    p = write_pairs(tmp_path, cw, co)
+    assert main(["fit", "partition", str(p), "--cmc", "1e300 mM"]) == 2
+    assert "--cmc: 1e+300 mM is outside the accepted range" in capsys.readouterr().err

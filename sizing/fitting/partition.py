@@ -29,7 +29,7 @@ from scipy.special import stdtrit  # Student t quantile, stdtrit(dof, q) = scipy
 
 from ..errors import InputError
 from ..labcsv import read_lab_csv
-from ..plausible import check_array
+from ..plausible import check, check_array
 
 CONFIDENCE = 0.95
 MIN_BELOW = 2
@@ -382,11 +382,16 @@ def fit_partition_arrays(c_water, c_oil, *, cmc=None, path="data", labels=None,
     _listed(problems, np.flatnonzero(np.isfinite(co) & (co < 0)),
             lambda i: f"{p}: row {i + 2}, column {lab['oil_concentration']!r}: {co[i]:g} mol/m**3 "
                       "is negative; expected a concentration >= 0")
+    odd = []
     if cmc is not None and not (np.isfinite(cmc) and cmc > 0):
         problems.append(f"--cmc: expected a concentration > 0, got {cmc!r}")
+    elif cmc is not None:
+        try:
+            odd += [w for w in [check("--cmc", cmc, "concentration")] if w]
+        except InputError as exc:
+            problems += exc.problems
     if problems:
         raise InputError(problems=problems)
-    odd = []
     for k, arr in (("water_concentration", cw), ("oil_concentration", co)):
         bad, warn = check_array(f"{p}: column {lab[k]!r}", arr, "concentration")
         problems += bad
