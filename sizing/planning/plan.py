@@ -385,8 +385,11 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     inputs = model.case_inputs(case)
     target_sol = model.solve(inputs)
     feasible = bool(np.all(target_sol.feasible))
-    _, target_theta = model.target_concentration(inputs)
-    cmc = _f(inputs.cmc)
+    if inputs.blend is None:
+        _, target_theta = model.target_concentration(inputs)
+    else:  # the total coverage the target asks for (a blend's tension target sets it by the state)
+        target_theta = (inputs.target_value if inputs.target_kind == "coverage"
+                        else target_sol.state.coverage if feasible else math.nan)
     # the dose at the CMC ceiling (the onset of micelles: for one surfactant free monomer = CMC)
     kg_per_mol = _f(inputs.molar_mass) / _f(inputs.active_fraction)
     onset = _f(model.onset_dose_mol(inputs))
