@@ -28,7 +28,7 @@ ROOT = Path(__file__).resolve().parents[1]
 DEMOS = ROOT / "cases_demo"
 MARKER = "OUTSIDE-SECRET-7f3a"  # planted outside the case folder: must never appear anywhere
 TIMEOUT = 30  # s per subprocess: a hang fails the test instead of the suite
-FUZZ = settings(max_examples=25, deadline=None, derandomize=True,
+FUZZ = settings(max_examples=25, deadline=None, derandomize=True, database=None,
                 suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 
 CASE = """[case]
