@@ -530,6 +530,11 @@ def blend_physics_of(inputs: Inputs):
                                uptake, bi.micelles, bi.interaction)
 
 
+# a blend's largest coverage needs a scan of doses above the onset; arrays larger than this (a Monte
+# Carlo run, a big sweep) skip it where it is not needed and report max_coverage as nan there
+MAX_COVERAGE_SCAN = 4096
+
+
 def _solve_blend(inputs: Inputs, dose_mol=None) -> Solution:
     """:func:`solve` for a blend: the state of every component, totals in ``state``."""
     bi = inputs.blend
@@ -555,6 +560,7 @@ def _solve_blend(inputs: Inputs, dose_mol=None) -> Solution:
         g, n, t = gis.reshape(-1, bi.size)[rows], ns.reshape(-1, bi.size)[rows], temp.reshape(-1)[rows]
         return blend_physics.surface_pressure(state, g, t, n)
 
+    scan = int(np.prod(shape, dtype=int)) <= MAX_COVERAGE_SCAN
     if dose_mol is None:
         mode = "target"
         kind = inputs.target_kind
@@ -570,15 +576,19 @@ def _solve_blend(inputs: Inputs, dose_mol=None) -> Solution:
                                  f"tension {float(np.min(gamma0)) * 1e3:g} mN/m; expected a tension the blend can reach")
             dose, feasible, _, best_dose = blend_physics.dose_for_target("pressure", gamma0 - value, bl,
                                                                          pressure_fn=pressure, **geo)
-        else:
-            dose, feasible, _, best_dose = blend_physics.dose_for_target(kind, value, bl, **geo)
+        else:  # a coverage target scans every row, so its best is the largest coverage too
+            dose, feasible, best, best_dose = blend_physics.dose_for_target(kind, value, bl, scan_all=scan, **geo)
+        # the largest coverage any dose reaches (a scan from the onset up; large arrays skip it
+        # where the target is met: max_coverage is then nan, unknown, rather than a guess)
         if kind == "coverage":
-            best_cov = blend_physics.dose_for_target("coverage", value, bl, **geo)[2]
-        else:
+            best_cov = best if scan else np.where(feasible, np.nan, best)
+        elif scan:
             best_cov = blend_physics.dose_for_target("coverage", np.full(shape, 1.0 - 1e-12), bl, **geo)[2]
+        else:
+            best_cov = np.full(shape, np.nan)
         n_eval = np.where(feasible, dose, best_dose)
         comp = blend_physics.state_for_dose(np.where(np.isfinite(n_eval), n_eval, 0.0), bl, **geo)
-        theta_max = np.where(feasible & (kind == "coverage"), np.maximum(best_cov, value), best_cov)
+        theta_max = np.fmax(best_cov, np.where(feasible & scan, np.sum(comp.coverage, axis=-1), np.nan))
     else:
         mode = "dose"
         dose = np.asarray(dose_mol, dtype=float)
@@ -586,7 +596,8 @@ def _solve_blend(inputs: Inputs, dose_mol=None) -> Solution:
             raise InputError(f"--dose: expected an amount >= 0, got {float(np.min(dose))!r} mol")
         comp = blend_physics.state_for_dose(dose, bl, **geo)
         feasible = np.ones(shape, dtype=bool)
-        theta_max = blend_physics.dose_for_target("coverage", np.full(shape, 1.0 - 1e-12), bl, **geo)[2]
+        theta_max = (blend_physics.dose_for_target("coverage", np.full(shape, 1.0 - 1e-12), bl, **geo)[2]
+                     if scan else np.full(shape, np.nan))
     state = balance.BalanceState(*(np.sum(getattr(comp, f), axis=-1) for f in (
         "free_concentration", "coverage", "continuous_mol", "dispersed_mol", "interface_mol", "micelle_mol")))
     gamma = np.sum(comp.coverage * gis, axis=-1)

@@ -276,8 +276,23 @@ def _micellar_two(b: _Batch, n, rows):
         return -f / n[idx], -df * dx1 / n[idx]
 
     lo, hi = _y_limits(rows.size)
-    x0 = np.log(alpha[:, 0] / alpha[:, 1]) if rows.size else np.zeros(0)
-    y = bracketed_newton(fdf, lo, hi, x0=np.clip(x0, -290, 290), xtol=1e-13, rtol=1e-15)
+    # tight brackets from N_mic >= 0: x_i <= alpha_i N / (min f_i C_i V_eff_i); kept where the
+    # residual has the right sign there, else the wide limits
+    beta = b.beta[rows]
+    fmin = np.exp(np.minimum(beta, 0.0))
+    cm, ve = b.cmc[rows], b.veff[rows]
+    b1 = np.clip(alpha[:, 0] * n / (fmin * cm[:, 0] * ve[:, 0]), 1e-130, 1 - 1e-15)
+    b2 = np.clip(alpha[:, 1] * n / (fmin * cm[:, 1] * ve[:, 1]), 1e-130, 1 - 1e-15)
+    t_hi, t_lo = np.log(b1) - np.log1p(-b1), np.log1p(-b2) - np.log(b2)
+    t_lo = np.minimum(t_lo, t_hi)
+    all_rows = np.arange(rows.size)
+    if rows.size:
+        g_hi = fdf(t_hi, all_rows)[0]
+        g_lo = fdf(t_lo, all_rows)[0]
+        hi = np.where(g_hi >= 0, t_hi, hi)
+        lo = np.where(g_lo <= 0, t_lo, lo)
+    x0 = np.clip(np.log(alpha[:, 0] / alpha[:, 1]), lo, hi) if rows.size else np.zeros(0)
+    y = bracketed_newton(fdf, lo, hi, x0=x0, xtol=1e-13, rtol=1e-15)
     t = _two(b, y, rows)
     c = np.stack([t["c1"], t["c2"]], axis=-1)
     x = np.stack([t["x1"], t["x2"]], axis=-1)
@@ -500,9 +515,9 @@ def state_for_dose(dose_mol, blend: Blend, *, continuous_volume, dispersed_volum
     return _forward(b, nf, reshape=True)
 
 
-def _forward(b: _Batch, nf, reshape=False) -> BlendState:
-    """The forward solve on a flat batch and flat doses ``nf`` [mol]."""
-    n_on = _onset(b)
+def _forward(b: _Batch, nf, reshape=False, n_on=None) -> BlendState:
+    """The forward solve on a flat batch and flat doses ``nf`` [mol] (``n_on``: onsets if known)."""
+    n_on = _onset(b) if n_on is None else n_on
     rows = np.arange(nf.size)
     mic = (nf >= n_on) & (nf > 0)
     m = b.alpha.shape[-1]
@@ -579,12 +594,12 @@ def _metric(kind, state: BlendState, pressure_fn):
 
 
 SCAN_DECADES = 6.0  # above the onset, doses up to 1e6 times the onset dose are scanned
-SCAN_POINTS = 49
+SCAN_POINTS = 37
 
 
 @_quiet
 def dose_for_target(kind: str, value, blend: Blend, *, continuous_volume, dispersed_volume, area,
-                    pressure_fn=None):
+                    pressure_fn=None, scan_all=False):
     """Return ``(dose_mol, feasible, best_metric, best_dose)``: the smallest dose reaching a target.
 
     Parameters
@@ -609,7 +624,8 @@ def dose_for_target(kind: str, value, blend: Blend, *, continuous_volume, disper
     bisection in ``ln w``.  Above the onset the metric may fall again; doses from the onset up to
     ``10**SCAN_DECADES`` times it are scanned on a log grid in one forward call, and the first
     crossing is refined by bisection in ``ln N``.  The largest reachable value is the grid's
-    largest (and the value as ``N`` grows without bound, where ``x_i -> alpha_i``).
+    largest (and the value as ``N`` grows without bound, where ``x_i -> alpha_i``); with
+    ``scan_all`` every row with an onset is scanned, so the largest value holds for every row.
     """
     target = np.asarray(value, dtype=float)
     b = _batch(blend, continuous_volume, dispersed_volume, area, extra_shape=target.shape)
@@ -619,7 +635,7 @@ def dose_for_target(kind: str, value, blend: Blend, *, continuous_volume, disper
     n_on = _onset(b)
 
     def metric_rows(nv, r):
-        st = _forward(_sub(b, r), np.asarray(nv, dtype=float))
+        st = _forward(_sub(b, r), np.asarray(nv, dtype=float), n_on=n_on[r])
         return _metric(kind, st, (lambda s_: pressure_fn(s_, r)) if pressure_fn is not None else None)
 
     fin = np.isfinite(n_on)
@@ -628,39 +644,74 @@ def dose_for_target(kind: str, value, blend: Blend, *, continuous_volume, disper
         r = rows[fin]
         m_on[fin] = metric_rows(n_on[fin] * (1.0 - 1e-12), r)
     dose = np.full(tf.size, np.nan)
-    best = np.full(tf.size, np.nan)
-    best_dose = np.full(tf.size, np.nan)
+    best = np.where(fin, m_on, np.nan)
+    best_dose = np.where(fin, n_on, np.nan)
     low = rows[tf <= m_on]
     if low.size:
         dose[low] = _below_onset_dose(kind, tf[low], b, low, n_on[low], metric_rows)
-        best[low], best_dose[low] = tf[low], dose[low]
-    high = rows[tf > m_on]
+        best[low] = np.where(fin[low], np.maximum(best[low], tf[low]), tf[low])
+        best_dose[low] = np.where(fin[low], best_dose[low], dose[low])
+    # above the onset: scan (every row with an onset when the largest value is wanted)
+    high = rows[(tf > m_on) | (fin & bool(scan_all))] if scan_all else rows[tf > m_on]
     if high.size:
         grid = n_on[high, None] * np.logspace(0.0, SCAN_DECADES, SCAN_POINTS)[None, :]
         rr = np.repeat(high, SCAN_POINTS)
         mg = metric_rows(grid.reshape(-1), rr).reshape(high.size, SCAN_POINTS)
-        ok = mg >= tf[high, None]
+        arg = np.argmax(mg, axis=1)
+        top = mg[np.arange(high.size), arg]
+        better = top > best[high]
+        best[high] = np.where(better, top, best[high])
+        best_dose[high] = np.where(better, grid[np.arange(high.size), arg], best_dose[high])
+        need = tf[high] > m_on[high]
+        ok = (mg >= tf[high, None]) & need[:, None]
         hit = np.any(ok, axis=1)
         j = np.argmax(ok, axis=1)
-        arg = np.argmax(mg, axis=1)
-        best[high] = np.maximum(mg[np.arange(high.size), arg], m_on[high])
-        best_dose[high] = grid[np.arange(high.size), arg]
         if np.any(hit):
             h = np.flatnonzero(hit)
-            lo = np.log(np.where(j[h] > 0, grid[h, np.maximum(j[h] - 1, 0)], n_on[high[h]]))
-            hi = np.log(grid[h, j[h]])
             r = high[h]
-            for _ in range(60):  # bisection in ln N: the crossing to 1e-15 relative
-                mid = 0.5 * (lo + hi)
-                up = metric_rows(np.exp(mid), r) >= tf[r]
-                hi = np.where(up, mid, hi)
-                lo = np.where(up, lo, mid)
-                if np.all(hi - lo < 1e-15 * np.maximum(1.0, np.abs(hi))):
-                    break
-            dose[r] = np.exp(hi)
+            jj = j[h]
+            lo = np.log(np.where(jj > 0, grid[h, np.maximum(jj - 1, 0)], n_on[r] * (1.0 - 1e-12)))
+            hi = np.log(grid[h, jj])
+            f_lo = np.where(jj > 0, mg[h, np.maximum(jj - 1, 0)], m_on[r]) - tf[r]
+            f_hi = mg[h, jj] - tf[r]
+            dose[r] = np.exp(_illinois(lambda x, idx: metric_rows(np.exp(x), r[idx]) - tf[r[idx]],
+                                       lo, hi, f_lo, f_hi))
             best[r] = np.maximum(best[r], tf[r])
     feasible = np.isfinite(dose)
     return (dose.reshape(shape), feasible.reshape(shape), best.reshape(shape), best_dose.reshape(shape))
+
+
+def _illinois(f, lo, hi, f_lo, f_hi, rtol=1e-14, maxiter=100):
+    """Vectorised Illinois (modified regula falsi) root of ``f`` with ``f(lo) < 0 <= f(hi)``.
+
+    Returns the smallest bracket end ``hi`` known to satisfy ``f >= 0``, converged to ``rtol``
+    relative in ``x`` (Dowell and Jarratt, BIT 11 (1971) 168 [from memory]).
+    """
+    lo, hi, f_lo, f_hi = (np.array(v, dtype=float, copy=True) for v in (lo, hi, f_lo, f_hi))
+    side = np.zeros(lo.size, dtype=int)
+    open_ = np.flatnonzero(hi - lo > rtol * np.maximum(1.0, np.abs(hi)))
+    for _ in range(maxiter):
+        if open_.size == 0:
+            break
+        a, b, fa, fb = lo[open_], hi[open_], f_lo[open_], f_hi[open_]
+        x = b - fb * (b - a) / (fb - fa)
+        bad = ~np.isfinite(x) | (x <= a) | (x >= b)
+        x = np.where(bad, 0.5 * (a + b), x)
+        fx = f(x, open_)
+        up = fx >= 0
+        hi[open_] = np.where(up, x, b)
+        f_hi[open_] = np.where(up, fx, fb)
+        lo[open_] = np.where(up, a, x)
+        f_lo[open_] = np.where(up, fa, fx)
+        # Illinois: halve the stale end's value when the same end is kept twice
+        s_new = np.where(up, 1, -1)
+        stale = side[open_] == s_new
+        f_lo[open_] = np.where(stale & up, 0.5 * f_lo[open_], f_lo[open_])
+        f_hi[open_] = np.where(stale & ~up, 0.5 * f_hi[open_], f_hi[open_])
+        side[open_] = s_new
+        done = hi[open_] - lo[open_] <= rtol * np.maximum(1.0, np.abs(hi[open_]))
+        open_ = open_[~done]
+    return hi
 
 
 def _below_onset_dose(kind, target, b: _Batch, rows, n_on, metric_rows):
@@ -685,14 +736,9 @@ def _below_onset_dose(kind, target, b: _Batch, rows, n_on, metric_rows):
                 break
             hi = np.where(miss & ~reach, hi + 2.0, hi)
     lo = hi - 80.0
-    for _ in range(200):
-        mid = 0.5 * (lo + hi)
-        up = metric_rows(np.exp(mid), rows) >= target
-        hi = np.where(up, mid, hi)
-        lo = np.where(up, lo, mid)
-        if np.all(hi - lo < 1e-15 * np.maximum(1.0, np.abs(hi))):
-            break
-    return np.exp(hi)
+    f_lo = metric_rows(np.exp(lo), rows) - target
+    f_hi = metric_rows(np.exp(hi), rows) - target
+    return np.exp(_illinois(lambda x, idx: metric_rows(np.exp(x), rows[idx]) - target[idx], lo, hi, f_lo, f_hi))
 
 
 @_quiet

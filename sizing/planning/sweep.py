@@ -34,7 +34,7 @@ ALIASES = {
 EXTRA_DIMENSIONS = {"drops.d32": "length", "target.coverage": "dimensionless",
                     "target.tension": "tension", "target.free_concentration": "concentration"}
 
-_SPEC = re.compile(r"^\s*([A-Za-z_][\w.]*)\s*=\s*(.+?)\s*\.\.\s*(.+?)\s*:\s*(\d+)\s*(?::\s*(log|lin))?\s*$")
+_SPEC = re.compile(r"^\s*([A-Za-z_][\w.\[\]]*)\s*=\s*(.+?)\s*\.\.\s*(.+?)\s*:\s*(\d+)\s*(?::\s*(log|lin))?\s*$")
 _NUM = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
 MAX_POINTS = 1_000_000
 
@@ -51,6 +51,8 @@ class Variation:
 
     @property
     def header(self) -> str:
+        if self.path.startswith("blend.component["):  # which component: blend.component[0].fraction
+            return f"{self.path[len('blend.'):]} [{self.unit or '-'}]"
         return f"{self.path.split('.')[-1]} [{self.unit or '-'}]"
 
 
