@@ -27,7 +27,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 
 import numpy as np
@@ -42,7 +42,9 @@ from ..physics.isotherm import MODELS, check_model, pressure_of_theta, theta_of_
 MIN_BELOW = 4  # points needed below the CMC
 MIN_ABOVE = 2  # points needed on the plateau
 CONFIDENCE = 0.95
-AICC_MARGIN = 2.0  # a more complex model must gain more than this to be chosen
+AICC_MARGIN = 2.0  # another model must lower AICc by more than this against Langmuir to be chosen
+MAX_STARTS = 24  # breakpoint starts per model, spread over the gaps (one batched fit)
+POLISHED = 3  # best distinct starts polished by least_squares
 # number of fitted EOS parameters per model, the clean tension and the CMC excluded
 _EXTRA = {"langmuir": 0, "volmer": 0, "frumkin": 1}
 _BOUNDS = {  # on the fitted scale
@@ -115,6 +117,12 @@ class ModelFit:
         The solution on the fitted scale (internal).
     at_bound : tuple of str
         Parameters that ended at the edge of their allowed range.
+    cov : ndarray
+        ``s**2 (J^T J)^-1`` on the fitted scale (internal).
+    linearised : dict
+        Same keys as ``intervals``: the linearised (Wald, Student's t) 95 % intervals.
+    interval_method : str
+        ``"profile likelihood"`` for the model used, ``"linearised"`` for the others.
 
     Examples
     --------
@@ -150,6 +158,9 @@ class ModelFit:
     residuals: np.ndarray  # measured - fitted [N/m]
     x: np.ndarray  # the solution on the fitted scale (internal)
     at_bound: tuple = ()
+    cov: np.ndarray | None = None  # covariance on the fitted scale (internal)
+    linearised: dict | None = None  # name -> (low, high) linearised 95 % interval [SI]
+    interval_method: str = "linearised"  # how ``intervals`` were found
 
 
 @dataclass(frozen=True)
@@ -289,18 +300,20 @@ def read_tension_csv(path) -> TensionData:
         problems.append(f"{p}: row {i + 2}, column {labels['tension']!r}: {g[i] * 1e3:g} mN/m is "
                         "not positive; expected a tension > 0")
     if "replicate" not in table.columns:
-        seen: dict = {}
-        for i, v in enumerate(c):
-            if not np.isfinite(v):
-                continue
-            key = float(f"{v:.12g}")
-            if key in seen:
-                problems.append(
-                    f"{p}: rows {seen[key] + 2} and {i + 2} have the same concentration "
-                    f"({v:g} mol/m**3) and the file has no 'replicate' column; expected distinct "
-                    "concentrations, or a 'replicate' column numbering repeated measurements")
-            else:
-                seen[key] = i
+        ok = np.flatnonzero(np.isfinite(c))
+        _, first, inv, counts = np.unique(c[ok], return_index=True, return_inverse=True,
+                                          return_counts=True)
+        repeats = np.flatnonzero(counts[inv] > 1)
+        repeats = repeats[repeats != first[inv[repeats]]]  # rows after the first of their value
+        if repeats.size:  # one message for the whole file, however many rows repeat
+            i = ok[repeats[0]]
+            j = ok[first[inv[repeats[0]]]]
+            more = (f" ({repeats.size} rows repeat an earlier concentration)" if repeats.size > 1
+                    else "")
+            problems.append(
+                f"{p}: rows {j + 2} and {i + 2} have the same concentration ({c[i]:g} mol/m**3)"
+                f"{more} and the file has no 'replicate' column; expected distinct "
+                "concentrations, or a 'replicate' column numbering repeated measurements")
     if problems:
         raise InputError(problems=problems)
     if len(c) < MIN_BELOW + MIN_ABOVE:
@@ -396,40 +409,196 @@ def model_tension(c, model, gamma0, max_surface_excess, adsorption_constant, cmc
                                       model, beta)
 
 
-def _residuals_fn(c, y_mn, model, names, g0_fixed, temperature, n):
-    def fun(x):
-        g0, ginf, k, beta, lcmc = _unpack(x, names, g0_fixed)
-        pred = model_tension(c, model, g0 * 1e-3, ginf, k, 10.0 ** lcmc, temperature, n, beta)
-        return pred * 1e3 - y_mn
-    return fun
+# ---------------------------------------------------------------------------- the fitting problem
+@dataclass(frozen=True)
+class _Series:
+    """A series on its distinct concentrations: replicates become one weighted point.
+
+    ``sum_i (y_i - f(c_i))**2 = sum_j w_j (ybar_j - f(u_j))**2 + pure`` exactly, so the fit on
+    ``m`` distinct concentrations with weights ``w_j`` equals the fit on every row.
+    """
+
+    u: np.ndarray  # distinct concentrations [mol/m**3], sorted
+    w: np.ndarray  # rows per concentration [-]
+    ybar: np.ndarray  # mean tension per concentration [mN/m]
+    pure: float  # pure-error sum of squares, sum (y_i - ybar_j)**2 [mN**2/m**2]
+    inverse: np.ndarray  # row -> index into u
+    rows: int
+
+    @property
+    def sw(self):
+        return np.sqrt(self.w)
 
 
-def _jacobian(c, model, names, x, g0_fixed, temperature, n):
-    """Return d(residual [mN/m]) / d(fitted parameter), analytic, one row per point.
+def _series(data) -> _Series:
+    u, inv, w = np.unique(data.concentration, return_inverse=True, return_counts=True)
+    y = data.tension * 1e3
+    ybar = np.bincount(inv, weights=y, minlength=len(u)) / w
+    pure = float(np.sum((y - ybar[inv]) ** 2))
+    return _Series(u, w.astype(float), ybar, pure, inv, len(y))
+
+
+def _split(X, names, g0_fixed):
+    """Return the model parameters as columns (B, 1) of a batch of solutions X (B, p)."""
+    col = {nm: X[:, i:i + 1] for i, nm in enumerate(names)}
+    g0 = col.get("clean_tension", g0_fixed)
+    lcmc = col.get("log10_cmc")
+    cmc = np.inf if lcmc is None else 10.0 ** lcmc
+    return g0, np.exp(col["ln_gamma"]), np.exp(col["ln_k"]), col.get("interaction", 0.0), cmc
+
+
+def _evaluate(u, model, names, X, g0_fixed, temperature, n, jac=True):
+    """Return the model tension [mN/m] (B, m) at ``u`` for a batch X (B, p), and its Jacobian.
 
     The Gibbs equation gives the derivatives in ``ln K`` and ``log10 cmc``
     (``dPi/dln(K c) = n R T Gamma_inf theta``); ``dPi/dln Gamma_inf = Pi``; for Frumkin,
     ``dPi/dbeta = n R T Gamma_inf theta**2`` at fixed ``c`` (implicit differentiation of the
-    isotherm cancels every term in ``dtheta/dbeta``).
+    isotherm cancels every term in ``dtheta/dbeta``).  Jacobian shape (B, m, p).
     """
-    g0, ginf, k, beta, lcmc = _unpack(x, names, g0_fixed)
-    cmc = 10.0 ** lcmc
-    ce = np.minimum(np.asarray(c, dtype=float), cmc)
+    g0, ginf, k, beta, cmc = _split(X, names, g0_fixed)
+    ce = np.minimum(u[None, :], cmc)
     theta = theta_of_c(ce, k, model, beta)
+    pi = pressure_of_theta(theta, ginf, temperature, n, model, beta) * 1e3
+    pred = g0 - pi
+    if not jac:
+        return pred, None
     scale = n * GAS_CONSTANT * temperature * ginf * 1e3  # [mN/m]
-    above = np.asarray(c) > cmc
-    cols = {"clean_tension": np.ones_like(ce),
-            "ln_gamma": -pressure_of_theta(theta, ginf, temperature, n, model, beta) * 1e3,
-            "ln_k": -scale * theta,
+    cols = {"clean_tension": np.ones_like(pred), "ln_gamma": -pi, "ln_k": -scale * theta,
             "interaction": -scale * theta**2,
-            "log10_cmc": np.where(above, -scale * theta * math.log(10.0), 0.0)}
-    return np.column_stack([cols[nm] for nm in names])
+            "log10_cmc": np.where(u[None, :] > cmc, -scale * theta * math.log(10.0), 0.0)}
+    return pred, np.stack([np.broadcast_to(cols[nm], pred.shape) for nm in names], axis=-1)
+
+
+class _Residuals:
+    """Row residuals ``model - measured`` [mN/m] as a function of the fitted vector, with its
+    analytic Jacobian as ``.jac`` (what :func:`_solve` hands to ``least_squares``)."""
+
+    def __init__(self, u, sw, target, model, names, g0_fixed, temperature, n):
+        self.u, self.sw, self.target = u, sw, target
+        self.args = (model, names, g0_fixed, temperature, n)
+
+    def __call__(self, x):
+        model, names, g0, t, n = self.args
+        pred, _ = _evaluate(self.u, model, names, np.asarray(x, float)[None, :], g0, t, n, jac=False)
+        return self.sw * (pred[0] - self.target)
+
+    def jac(self, x):
+        model, names, g0, t, n = self.args
+        _, J = _evaluate(self.u, model, names, np.asarray(x, float)[None, :], g0, t, n)
+        return self.sw[:, None] * J[0]
+
+
+def _residuals_fn(c, y_mn, model, names, g0_fixed, temperature, n):
+    """Return the unweighted residual function of every row (with ``.jac``)."""
+    c = np.asarray(c, dtype=float)
+    return _Residuals(c, np.ones_like(c), np.asarray(y_mn, dtype=float), model, names, g0_fixed,
+                      temperature, n)
+
+
+def _jacobian(c, model, names, x, g0_fixed, temperature, n):
+    """Return d(residual [mN/m]) / d(fitted parameter), analytic, one row per point (see
+    :func:`_evaluate`)."""
+    _, J = _evaluate(np.asarray(c, dtype=float), model, names, np.asarray(x, float)[None, :],
+                     g0_fixed, temperature, n)
+    return J[0]
+
+
+def _lm(problem, X0, lo, hi, target=None, free=None, iterations=60):
+    """Levenberg-Marquardt on a batch of independent problems at once (one array call per step).
+
+    Parameters
+    ----------
+    problem : callable
+        ``problem(X, target) -> (r (B, m), J (B, m, p))``, weighted residuals and Jacobian.
+    X0 : ndarray (B, p)
+        Starts, clipped into ``[lo, hi]``.
+    target : ndarray (B, m) or None
+        Passed to ``problem`` (bootstrap resamples).
+    free : ndarray (B, p) of bool or None
+        False for a parameter held at its start (a profile).
+
+    Returns
+    -------
+    (X, cost)
+        Solutions (B, p) and ``sum r**2`` (B,) (inf where the residual is not finite).
+
+    Notes
+    -----
+    Marquardt's scaling ``J^T J + lambda diag(J^T J)``; bounds by projection with the bound
+    parameters that the step pushes outward held for that step [1].
+
+    References
+    ----------
+    1. Nocedal, J. and Wright, S. J., Numerical Optimization, 2nd ed., Springer (2006), sec. 10.3
+       (Levenberg-Marquardt) and 16.7 (projected steps) [from memory].
+    """
+    X = np.clip(np.array(X0, dtype=float), lo, hi)
+    B, p = X.shape
+    free = np.ones((B, p), bool) if free is None else free
+    eye = np.eye(p)
+
+    def cost_of(x, idx):
+        with np.errstate(all="ignore"):
+            r, J = problem(x, None if target is None else target[idx])
+        c = np.einsum("bm,bm->b", r, r)
+        c = np.where(np.isfinite(c) & np.all(np.isfinite(J), axis=(1, 2)), c, np.inf)
+        return r, J, c
+
+    r, J, cost = cost_of(X, slice(None))
+    lam = np.full(B, 1e-3)
+    active = np.isfinite(cost)
+    for _ in range(iterations):
+        a = np.flatnonzero(active)
+        if not len(a):
+            break
+        Xa, Ja, ra = X[a], J[a] * free[a][:, None, :], r[a]
+        A = np.einsum("bmi,bmj->bij", Ja, Ja)
+        g = np.einsum("bmi,bm->bi", Ja, ra)
+        d = np.einsum("bii->bi", A)
+        d = np.maximum(d, 1e-12 * np.max(d, axis=1, keepdims=True) + 1e-300)
+        hold = ~free[a]
+        for _pass in range(2):  # the second pass holds parameters pushed out of their bounds
+            M = A + (lam[a][:, None] * d)[:, :, None] * eye + hold[:, :, None] * eye
+            with np.errstate(all="ignore"):
+                step = -np.linalg.solve(M, np.where(hold, 0.0, g)[:, :, None])[:, :, 0]
+            step = np.where(hold | ~np.isfinite(step), 0.0, step)
+            push = ((Xa <= lo) & (step < 0)) | ((Xa >= hi) & (step > 0))
+            if not push.any():
+                break
+            hold = hold | push
+        Xn = np.clip(Xa + step, lo, hi)
+        rn, Jn, cn = cost_of(Xn, a)
+        better = cn < cost[a]
+        gain = cost[a] - cn
+        idx = a[better]
+        X[idx], r[idx], J[idx], cost[idx] = Xn[better], rn[better], Jn[better], cn[better]
+        lam[a] = np.clip(np.where(better, lam[a] * 0.3, lam[a] * 10.0), 1e-12, 1e12)
+        small = np.all(np.abs(step) <= 1e-10 * (1.0 + np.abs(Xa)), axis=1)
+        done = (better & (gain <= 1e-14 * cost[a] + 1e-30)) | small | (lam[a] >= 1e12)
+        active[a[done]] = False
+    return X, cost
+
+
+def _batch_problem(series, model, names, g0_fixed, temperature, n):
+    """Return ``problem(X, target)`` for :func:`_lm` on the distinct concentrations."""
+    sw = series.sw
+
+    def problem(X, target):
+        pred, J = _evaluate(series.u, model, names, X, g0_fixed, temperature, n)
+        t = series.ybar if target is None else target
+        return sw * (pred - t), sw[None, :, None] * J
+
+    return problem
 
 
 def _initial(logc, y_mn, xb, model, names, g0_fixed, temperature, n):
     below = logc < xb
     idx = np.flatnonzero(below)[-3:]
-    slope = np.polyfit(logc[idx], y_mn[idx], 1)[0] if len(idx) >= 2 else -5.0
+    slope = -5.0
+    if len(idx) >= 2:  # least-squares slope of the last points below the break
+        dx = logc[idx] - logc[idx].mean()
+        if np.dot(dx, dx) > 0:
+            slope = float(np.dot(dx, y_mn[idx] - y_mn[idx].mean()) / np.dot(dx, dx))
     scale_t = n * GAS_CONSTANT * temperature
     gam = min(max(-slope * 1e-3 / (math.log(10.0) * scale_t), 5e-7), 2e-5) / 0.95
     g0 = g0_fixed if g0_fixed is not None else max(float(np.max(y_mn)) + 0.5, 1.0)
@@ -463,88 +632,230 @@ def _bounds(names, logc, y_mn):
 
 
 def _candidates(logc):
-    """Start the breakpoint in every gap leaving 2 points below and 1 above (the counts are
-    checked after the fit, so that too few points give an error rather than a forced break)."""
+    """Breakpoint starts: gaps leaving 2 points below and 1 above, at most :data:`MAX_STARTS`
+    spread evenly over the gaps (the counts are checked after the fit, so that too few points
+    give an error rather than a forced break)."""
     u = np.unique(logc)
     if len(u) < 4:
         return []
-    mids = 0.5 * (u[:-1] + u[1:])
-    return list(mids[1:])
+    mids = 0.5 * (u[:-1] + u[1:])[1:]
+    if len(mids) > MAX_STARTS:
+        mids = mids[np.unique(np.round(np.linspace(0, len(mids) - 1, MAX_STARTS)).astype(int))]
+    return list(mids)
 
 
 def _solve(fun, x0, lo, hi):
     x0 = np.clip(x0, lo + 1e-9 * (hi - lo), hi - 1e-9 * (hi - lo))
-    return least_squares(fun, x0, bounds=(lo, hi), x_scale="jac", method="trf",
-                         ftol=1e-12, xtol=1e-12, gtol=1e-12, max_nfev=2000)
+    return least_squares(fun, x0, jac=getattr(fun, "jac", "2-point"), bounds=(lo, hi),
+                         x_scale="jac", method="trf", ftol=1e-12, xtol=1e-12, gtol=1e-12,
+                         max_nfev=2000)
 
 
-def _fit_model(data, model, temperature, n, g0_fixed_mn, starts=None):
+def _fit_model(data, model, temperature, n, g0_fixed_mn, starts=None, series=None):
+    """Fit one model: a batched search from every breakpoint start (one array call per step),
+    then ``least_squares`` polishing the best few; returns ``(best, names, lo, hi, fun)`` with
+    ``fun`` the residuals of every row (``best.fun`` holds the weighted distinct-point ones)."""
+    s = _series(data) if series is None else series
     c = data.concentration
-    logc = np.log10(c)
-    y = data.tension * 1e3
+    logu = np.log10(s.u)
     names = _names(model, g0_fixed_mn is not None)
-    lo, hi = _bounds(names, logc, y)
-    fun = _residuals_fn(c, y, model, names, g0_fixed_mn, temperature, n)
+    lo, hi = _bounds(names, logu, s.ybar)
+    weighted = _Residuals(s.u, s.sw, s.ybar, model, names, g0_fixed_mn, temperature, n)
     if starts is None:
-        gaps = _candidates(logc)
+        gaps = _candidates(logu)
         if not gaps:
-            raise InputError(f"{data.path}: {len(np.unique(c))} distinct concentrations; expected at "
+            raise InputError(f"{data.path}: {len(s.u)} distinct concentrations; expected at "
                              f"least 4 (the CMC is a breakpoint between measured concentrations)")
-        starts = [_initial(logc, y, xb, model, names, g0_fixed_mn, temperature, n) for xb in gaps]
+        starts = [_initial(logu, s.ybar, xb, model, names, g0_fixed_mn, temperature, n) for xb in gaps]
+    X0 = np.array(starts, dtype=float)
+    X, cost = _lm(_batch_problem(s, model, names, g0_fixed_mn, temperature, n), X0, lo, hi,
+                  iterations=40)
+    order = [i for i in np.argsort(cost) if np.isfinite(cost[i])]
+    picks, seen = [], []
+    for i in order:  # the best few distinct breakpoints
+        if all(abs(X[i, -1] - v) > 1e-3 for v in seen):
+            picks.append(X[i])
+            seen.append(X[i, -1])
+        if len(picks) == POLISHED:
+            break
+    if not picks:
+        picks = list(X0[:POLISHED])
     best = None
-    for x0 in starts:
+    for x0 in picks:
         with np.errstate(all="ignore"):
-            res = _solve(fun, x0, lo, hi)
+            res = _solve(weighted, x0, lo, hi)
         if np.all(np.isfinite(res.fun)) and (best is None or res.cost < best.cost):
             best = res
     if best is None:
         raise CalculationError(f"{data.path}: the {model} fit did not converge on this series "
                                "(no start gave a finite residual); check the data, or force another "
                                "model with --model")
-    return best, names, lo, hi, fun
+    return best, names, lo, hi, _residuals_fn(c, data.tension * 1e3, model, names, g0_fixed_mn,
+                                              temperature, n)
 
 
-def _summarise(data, model, best, names, lo, hi, fun, temperature, n, g0_fixed_mn):
+def _aicc(rss_mn, npts, m_par):
+    aic = npts * math.log(max(rss_mn, 1e-300) * 1e-6 / npts) + 2 * m_par
+    return aic, aic + (2 * m_par * (m_par + 1) / (npts - m_par - 1) if npts - m_par - 1 > 0 else math.inf)
+
+
+_TRANS = {"clean_tension": ("clean_tension", lambda v: v * 1e-3, lambda v, s: s * 1e-3),
+          "ln_gamma": ("max_surface_excess", math.exp, lambda v, s: math.exp(v) * s),
+          "ln_k": ("adsorption_constant", math.exp, lambda v, s: math.exp(v) * s),
+          "interaction": ("interaction", lambda v: v, lambda v, s: s),
+          "log10_cmc": ("cmc", lambda v: 10.0 ** v, lambda v, s: 10.0 ** v * math.log(10) * s)}
+
+
+def _to_si(names, bounds_fitted):
+    """Return {parameter: (low, high)} in SI from intervals on the fitted scale."""
+    out = {}
+    for nm, (a, b) in zip(names, bounds_fitted):
+        pname, f, _ = _TRANS[nm]
+        if nm == "interaction":
+            b = min(b, 2.0)
+        with np.errstate(over="ignore"):
+            out[pname] = (float(f(min(a, 700.0))), float(f(min(b, 700.0))))
+    return out
+
+
+def _summarise(data, model, best, names, lo, hi, fun, temperature, n, g0_fixed_mn, series=None):
+    s = _series(data) if series is None else series
     x = best.x
-    r_mn = best.fun
-    npts, k = len(r_mn), len(x)
-    rss_mn = float(r_mn @ r_mn)
+    npts, k = s.rows, len(x)
+    rss_mn = float(best.fun @ best.fun) + s.pure
     dof = max(npts - k, 1)
     s2 = rss_mn / dof
-    jac = _jacobian(data.concentration, model, names, x, g0_fixed_mn, temperature, n)
+    jac = s.sw[:, None] * _jacobian(s.u, model, names, x, g0_fixed_mn, temperature, n)
     try:
         cov = s2 * np.linalg.pinv(jac.T @ jac)
         se = np.sqrt(np.clip(np.diag(cov), 0, None))
     except np.linalg.LinAlgError:  # pragma: no cover
+        cov = np.full((k, k), np.inf)
         se = np.full(k, np.inf)
-    tq = float(stdtrit(dof, 0.5 + CONFIDENCE / 2))
+    tq = _t_quantile(dof)
     g0, ginf, kk, beta, lcmc = _unpack(x, names, g0_fixed_mn)
     params = {"clean_tension": float(g0) * 1e-3, "max_surface_excess": float(ginf),
               "adsorption_constant": float(kk), "interaction": float(beta), "cmc": 10.0 ** float(lcmc)}
     fixed = {"clean_tension": (g0 * 1e-3, g0 * 1e-3), "interaction": (0.0, 0.0)}
     ses = {p: float("nan") for p in PARAMS}
     intervals = dict(fixed)
-    trans = {"clean_tension": ("clean_tension", lambda v: v * 1e-3, lambda v, s: s * 1e-3),
-             "ln_gamma": ("max_surface_excess", math.exp, lambda v, s: math.exp(v) * s),
-             "ln_k": ("adsorption_constant", math.exp, lambda v, s: math.exp(v) * s),
-             "interaction": ("interaction", lambda v: v, lambda v, s: s),
-             "log10_cmc": ("cmc", lambda v: 10.0 ** v, lambda v, s: 10.0 ** v * math.log(10) * s)}
+    intervals.update(_to_si(names, [(x[i] - tq * se[i], x[i] + tq * se[i]) for i in range(k)]))
     at_bound = []
     for i, nm in enumerate(names):
-        pname, f, dse = trans[nm]
+        pname, _, dse = _TRANS[nm]
         ses[pname] = float(dse(x[i], se[i]))
-        lo_v, hi_v = x[i] - tq * se[i], x[i] + tq * se[i]
-        if nm == "interaction":
-            hi_v = min(hi_v, 2.0)
-        with np.errstate(over="ignore"):
-            intervals[pname] = (float(f(min(lo_v, 700.0))), float(f(min(hi_v, 700.0))))
         if min(x[i] - lo[i], hi[i] - x[i]) < 1e-6 * (hi[i] - lo[i]):
             at_bound.append(pname)
-    m_par = k + 1  # + the residual variance
-    aic = npts * math.log(rss_mn * 1e-6 / npts) + 2 * m_par
-    aicc = aic + (2 * m_par * (m_par + 1) / (npts - m_par - 1) if npts - m_par - 1 > 0 else math.inf)
+    aic, aicc = _aicc(rss_mn, npts, k + 1)  # + the residual variance
+    pred, _ = _evaluate(s.u, model, names, x[None, :], g0_fixed_mn, temperature, n, jac=False)
+    residuals = data.tension - pred[0][s.inverse] * 1e-3
     return ModelFit(model, params, ses, intervals, tuple(names), rss_mn * 1e-6, aic, aicc,
-                    -r_mn * 1e-3, x, tuple(at_bound))
+                    residuals, x, tuple(at_bound), cov=cov, linearised=dict(intervals),
+                    interval_method="linearised")
+
+
+def _t_quantile(dof):
+    """Student's t quantile at (1 + CONFIDENCE)/2; ``scipy.special.stdtrit`` (no scipy.stats)."""
+    return float(stdtrit(dof, 0.5 + CONFIDENCE / 2))
+
+
+# the profile grid, in linearised standard errors from the estimate (each side)
+_GRID = np.array([0.5, 1.0, 1.5, 1.75, 2.0, 2.25, 2.5, 3.0, 3.5, 4.5, 6.0, 8.0, 12.0, 20.0])
+
+
+def _profile(series, fit, lo, hi, temperature, n, g0_fixed_mn):
+    """Return profile-likelihood 95 % intervals {parameter: (low, high)} in SI and the names of
+    the parameters whose profile does not close inside their allowed range.
+
+    ``tau(v) = sign(v - x_hat) sqrt(S(v) - S_min) / s`` with ``S(v)`` the residual sum of squares
+    minimised over the other parameters at ``x_k = v``; the interval is ``|tau| <= t(n - p)`` [1].
+    Every grid point of every parameter is one problem of a single batched fit (:func:`_lm`).
+
+    References
+    ----------
+    1. Bates, D. M. and Watts, D. G., Nonlinear Regression Analysis and Its Applications, Wiley
+       (1988), sec. 6.1 (profile t) [from memory].
+    """
+    names, x, cov = fit.fitted, fit.x, fit.cov
+    k, g = len(names), len(_GRID)
+    se = np.sqrt(np.clip(np.diag(cov), 0, None))
+    rss_mn = fit.rss * 1e6
+    dof = max(series.rows - k, 1)
+    s2, tq = rss_mn / dof, _t_quantile(dof)
+    signs = np.concatenate([-_GRID, _GRID])
+    X0 = np.repeat(x[None, :], k * 2 * g, axis=0)
+    free = np.ones_like(X0, dtype=bool)
+    ok_se = np.isfinite(se) & (se > 0)
+    for i in range(k):
+        rows = slice(i * 2 * g, (i + 1) * 2 * g)
+        step = signs * (se[i] if ok_se[i] else 0.0)
+        v = np.clip(x[i] + step, lo[i], hi[i])
+        slope = cov[:, i] / cov[i, i] if ok_se[i] else np.zeros(k)
+        X0[rows] = x[None, :] + np.outer(v - x[i], np.nan_to_num(slope))
+        X0[rows, i] = v
+        free[rows, i] = False
+    X, cost = _lm(_batch_problem(series, fit.model, names, g0_fixed_mn, temperature, n), X0, lo, hi,
+                  free=free, iterations=40)
+    tau = np.sqrt(np.clip(cost + series.pure - rss_mn, 0.0, None) / s2)  # inf where it failed
+    out, open_ends = [], []
+    for i in range(k):
+        ends = []
+        for side in (-1, 1):
+            if not ok_se[i]:
+                ends.append(lo[i] if side < 0 else hi[i])
+                open_ends.append(_TRANS[names[i]][0])
+                continue
+            idx = i * 2 * g + g + np.arange(g) if side > 0 else i * 2 * g + np.arange(g)
+            vals = X[idx, i]
+            t_side = np.maximum.accumulate(tau[idx])  # the profile is taken as monotone outward
+            prev_v, prev_t, end = x[i], 0.0, None
+            for v, t in zip(vals, t_side):
+                if t >= tq:
+                    frac = (tq - prev_t) / (t - prev_t) if np.isfinite(t) and t > prev_t else 0.0
+                    end = prev_v + frac * (v - prev_v)
+                    break
+                prev_v, prev_t = v, t
+            if end is None:
+                end = vals[-1]
+                open_ends.append(_TRANS[names[i]][0])
+            ends.append(float(end))
+        out.append((min(ends), max(ends)))
+    return _to_si(names, out), tuple(dict.fromkeys(open_ends))
+
+
+def surface_excess_at_cmc(fit: ModelFit, temperature: float, gibbs_prefactor: float):
+    """Return the surface excess at the CMC [mol/m**2] of a fitted model and its 95 % interval.
+
+    ``Gamma(cmc) = Gamma_inf theta(K cmc)`` is the Gibbs slope of the fitted curve just below the
+    CMC, ``-(1/(n R T)) dgamma/dln c``, so it depends on the data near the CMC much more than on
+    the model; the interval is the delta method on ``ln Gamma(cmc)`` with Student's t.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> c = np.logspace(-3, 0, 12)  # mol/m**3, noise-free Langmuir series with a CMC of 0.065
+    >>> g = model_tension(c, "langmuir", 52e-3, 3.3e-6, 850.0, 0.065, 298.15)
+    >>> fit = fit_tension(TensionData("s.csv", c, g, 298.15, {}, ()), model="langmuir")
+    >>> v, _ = surface_excess_at_cmc(fit.best, 298.15, 1.0)
+    >>> round(v / 3.3e-6, 9)  # theta = K cmc / (1 + K cmc), K cmc = 55.25
+    0.982222222
+    """
+    names, x = fit.fitted, np.asarray(fit.x, dtype=float)
+
+    def ln_excess(xx):
+        _, ginf, k, beta, cmc = _split(np.atleast_2d(xx), names, 0.0)
+        return np.log(ginf[:, 0]) + np.log(theta_of_c(cmc[:, 0], k[:, 0], fit.model, beta if np.ndim(beta) == 0 else beta[:, 0]))
+
+    h = 1e-6 * (1.0 + np.abs(x))
+    pts = np.vstack([x + np.diag(h), x - np.diag(h)])
+    vals = ln_excess(pts)
+    grad = (vals[: len(x)] - vals[len(x):]) / (2 * h)
+    v = float(ln_excess(x)[0])
+    dof = max(len(fit.residuals) - len(x), 1)
+    var = float(grad @ fit.cov @ grad) if fit.cov is not None else math.inf
+    half = _t_quantile(dof) * math.sqrt(max(var, 0.0))
+    with np.errstate(over="ignore"):
+        return math.exp(v), (math.exp(v - half), math.exp(min(v + half, 700.0)))
 
 
 def select_model(fits: dict) -> tuple[str, str]:
@@ -567,9 +878,14 @@ def select_model(fits: dict) -> tuple[str, str]:
 
     Notes
     -----
-    Among the models whose AICc is within 2 of the lowest, take the one with the fewest
-    parameters; among those with as many parameters, the lowest AICc [1].
-    ``AICc = n ln(RSS/n) + 2m + 2m(m + 1)/(n - m - 1)``, m counting the residual variance.
+    Langmuir, the simplest and most common isotherm, is kept unless another model lowers AICc
+    by more than :data:`AICC_MARGIN` (2) below Langmuir's: with as many parameters (Volmer) a
+    difference within 2 is noise (on Langmuir data the other model wins such ties about one time
+    in five), and with one more (Frumkin) 2 units is the usual bar [1].  When several models beat
+    Langmuir by more than 2, the one with the fewest parameters within 2 of the lowest is taken,
+    among those with as many parameters the lowest AICc.  Without a Langmuir fit, the same rule
+    on all models.  ``AICc = n ln(RSS/n) + 2m + 2m(m + 1)/(n - m - 1)``, m counting the
+    residual variance.
 
     Examples
     --------
@@ -579,18 +895,35 @@ def select_model(fits: dict) -> tuple[str, str]:
     'langmuir'
     >>> select_model({"langmuir": F(-100.0, 4), "frumkin": F(-104.0, 5)})[0]
     'frumkin'
+    >>> select_model({"langmuir": F(-100.0, 4), "volmer": F(-101.9, 4)})[0]
+    'langmuir'
 
     References
     ----------
     1. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
        Springer (2002), sec. 2.4 and 2.6 (AICc; models within about 2 units) [from memory].
     """
-    low = min(f.aicc for f in fits.values())
-    near = [m for m, f in fits.items() if f.aicc <= low + AICC_MARGIN]
+    if not fits:
+        raise ValueError("select_model: no fits")
+    pool = fits
+    if "langmuir" in fits:
+        ref = fits["langmuir"].aicc
+        clear = {m: f for m, f in fits.items() if m != "langmuir" and f.aicc < ref - AICC_MARGIN}
+        pool = clear or {"langmuir": fits["langmuir"]}
+    low = min(f.aicc for f in pool.values())
+    near = [m for m, f in pool.items() if f.aicc <= low + AICC_MARGIN]
     pick = min(near, key=lambda m: (len(fits[m].fitted), fits[m].aicc))
     others = ", ".join(f"{m} {fits[m].aicc - fits[pick].aicc:+.2f}" for m in fits if m != pick)
-    why = (f"{pick}: the simplest model within {AICC_MARGIN:g} AICc units of the lowest "
-           f"(AICc differences against it: {others or 'none'})")
+    if pick == "langmuir" and len(fits) > 1:
+        why = (f"langmuir: the simplest and most common isotherm, kept because no other model "
+               f"lowers AICc by more than {AICC_MARGIN:g} (AICc differences against it: {others})")
+    elif "langmuir" in fits and pick != "langmuir":
+        why = (f"{pick}: lowers AICc by more than {AICC_MARGIN:g} against langmuir and is the "
+               f"simplest such model within {AICC_MARGIN:g} of the lowest (AICc differences "
+               f"against it: {others})")
+    else:
+        why = (f"{pick}: the simplest model within {AICC_MARGIN:g} AICc units of the lowest "
+               f"(AICc differences against it: {others or 'none'})")
     return pick, why
 
 
@@ -611,7 +944,8 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
     clean_tension : float, optional
         gamma0 [N/m] held fixed; fitted when None.
     bootstrap : int
-        Number of residual-bootstrap refits of the model used (0 = none).
+        Number of residual-bootstrap resamples of the model used (0 = none), fitted together in
+        one batched solve.
     seed : int
         Seed of the bootstrap.
 
@@ -629,13 +963,19 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
 
     Notes
     -----
-    Model: ``gamma = gamma0 - Pi(min(c, cmc))`` (:func:`model_tension`).  ``gamma0``,
-    ``ln Gamma_inf``, ``ln K``, Frumkin ``beta`` and ``log10 cmc`` are fitted together by
-    ``scipy.optimize.least_squares``, the breakpoint started in every gap between measured
-    concentrations [4].  Standard errors from ``cov = s**2 (J^T J)^-1`` with the analytic
-    Jacobian of the Gibbs equation (``dPi/dln(K c) = n R T Gamma_inf theta``), 95 % intervals
-    with Student's t on ``n - p`` degrees of freedom on the fitted scale [2]; models compared
-    by AICc (:func:`select_model`) [3]; optional residual bootstrap [5].  Valid for a single
+    Model: ``gamma = gamma0 - Pi(min(c, cmc))`` (:func:`model_tension`).  The fit runs on the
+    distinct concentrations, replicates weighted by their count (the same least-squares problem
+    as on every row, so time grows with the distinct concentrations, not the rows).  ``gamma0``,
+    ``ln Gamma_inf``, ``ln K``, Frumkin ``beta`` and ``log10 cmc`` are fitted together: at most
+    :data:`MAX_STARTS` breakpoint starts spread over the gaps between concentrations run as one
+    batched Levenberg-Marquardt fit, the best :data:`POLISHED` are polished by
+    ``scipy.optimize.least_squares`` with the analytic Jacobian of the Gibbs equation
+    (``dPi/dln(K c) = n R T Gamma_inf theta``) [4].  Standard errors from
+    ``cov = s**2 (J^T J)^-1``; the 95 % intervals of the model used are profile-likelihood
+    intervals (Student's t on ``n - p`` degrees of freedom), which keep their coverage where the
+    data constrain the parameters loosely and linearisation does not [2]; the linearised ones
+    are kept in ``ModelFit.linearised``.  Models compared by AICc (:func:`select_model`) [3];
+    optional residual bootstrap, all resamples in one batched fit [5].  Valid for a single
     surfactant below and at its CMC, equilibrium tensions, the Gibbs prefactor given.
 
     Examples
@@ -652,7 +992,8 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
     ----------
     1. Szyszkowski, B. von, Z. Phys. Chem. 64 (1908) 385-414 (the equation of state) [from memory].
     2. Bates, D. M. and Watts, D. G., Nonlinear Regression Analysis and Its Applications, Wiley
-       (1988), ch. 2 (covariance ``s**2 (J^T J)^-1``, t-intervals) [from memory].
+       (1988), ch. 2 and sec. 6.1 (covariance ``s**2 (J^T J)^-1``, t-intervals, profile t)
+       [from memory].
     3. Burnham, K. P. and Anderson, D. R., Model Selection and Multimodel Inference, 2nd ed.,
        Springer (2002): AICc and the "within 2 units" rule of thumb [from memory].
     4. Muggeo, V. M. R., "Estimating regression models with unknown break-points", Stat. Med. 22
@@ -682,10 +1023,12 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
     if g0_fixed_mn is not None and g0_fixed_mn < float(np.max(data.tension)) * 1e3 - 0.5:
         warnings.append(f"the clean tension given ({g0_fixed_mn:.4g} mN/m) is below the highest "
                         f"measured tension ({np.max(data.tension) * 1e3:.4g} mN/m)")
+    series = _series(data)
     fits, raw = {}, {}
     for m in models:
-        res, names, lo, hi, fun = _fit_model(data, m, temperature, n, g0_fixed_mn)
-        fits[m] = _summarise(data, m, res, names, lo, hi, fun, temperature, n, g0_fixed_mn)
+        res, names, lo, hi, fun = _fit_model(data, m, temperature, n, g0_fixed_mn, series=series)
+        fits[m] = _summarise(data, m, res, names, lo, hi, fun, temperature, n, g0_fixed_mn,
+                             series=series)
         raw[m] = (names, lo, hi)
     if model is None:
         chosen, why = select_model(fits)
@@ -703,40 +1046,55 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
             f"{data.path}: {n_above} point(s) above the fitted CMC ({cmc:.4g} mol/m**3); expected at "
             f"least {MIN_ABOVE} on the plateau: the tension is still falling at the highest "
             "concentration, so measure above the CMC")
-    _no_plateau_check(data, best, temperature, n, g0_fixed_mn)
+    _no_plateau_check(data, best, temperature, n, g0_fixed_mn, series)
+    names, lo, hi = raw[chosen]
+    intervals, open_ends = _profile(series, best, lo, hi, temperature, n, g0_fixed_mn)
+    best = replace(best, intervals={**best.intervals, **intervals}, interval_method="profile likelihood")
+    fits[chosen] = best
     for m, f in fits.items():
         bad = [b for b in f.at_bound if b != "cmc"]
         if bad and m == chosen:
             warnings.append(f"{m}: {', '.join(bad)} at the edge of its allowed range; its interval "
                             "is not reliable")
+    if open_ends:
+        warnings.append(f"{chosen}: the 95 % interval of {', '.join(open_ends)} does not close within "
+                        "the allowed range (the data do not bound it); the interval shown stops at "
+                        "the edge searched")
     if g0_fixed_mn is None and data.concentration[0] * best.params["adsorption_constant"] > 1.0:
         notes.append("the most dilute point is already well into adsorption (K c > 1); the clean "
                      "tension is an extrapolation: consider fixing it with --clean-tension")
     notes.append(f"{n_below} points below the CMC and {n_above} above; the CMC is a fitted "
                  "breakpoint of tension against log concentration")
+    if len(series.u) < series.rows:
+        notes.append(f"{series.rows} rows at {len(series.u)} distinct concentrations; replicates are "
+                     "fitted as one point each, weighted by their count")
+    excess, (ex_lo, ex_hi) = surface_excess_at_cmc(best, float(temperature), n)
+    spread = [surface_excess_at_cmc(f, float(temperature), n)[0] for f in fits.values()]
+    notes.append(
+        f"surface excess at the CMC (the Gibbs slope just below it): {excess * 1e6:.4g} umol/m**2 "
+        f"(95 %: {ex_lo * 1e6:.3g} to {ex_hi * 1e6:.3g})"
+        + (f", {min(spread) * 1e6:.4g} to {max(spread) * 1e6:.4g} across the models fitted"
+           if len(spread) > 1 else "")
+        + f"; a coverage target means Gamma/Gamma_inf of the {chosen} model, which reaches "
+        f"{excess / best.params['max_surface_excess']:.3g} at the CMC")
     boot = None
     if bootstrap:
-        names, lo, hi = raw[chosen]
-        boot = _bootstrap(data, best, names, lo, hi, temperature, n, g0_fixed_mn, int(bootstrap), seed)
+        boot = _bootstrap(series, best, names, lo, hi, temperature, n, g0_fixed_mn, int(bootstrap), seed)
     return TensionFit(data, float(temperature), n, None if clean_tension is None else float(clean_tension),
                       fits, chosen, why, n_below, n_above, boot, tuple(notes), tuple(warnings),
                       model is not None)
 
 
-def _no_plateau_check(data, best, temperature, n, g0_fixed_mn):
+def _no_plateau_check(data, best, temperature, n, g0_fixed_mn, series=None):
     """Refuse a series whose 'plateau' is no better than the isotherm running on (AICc)."""
-    c, y = data.concentration, data.tension * 1e3
+    s = _series(data) if series is None else series
     names = _names(best.model, g0_fixed_mn is not None)[:-1]
-    lo, hi = _bounds(names + ("log10_cmc",), np.log10(c), y)
-
-    def fun(x):
-        g0, ginf, k, beta, _ = _unpack(np.append(x, 0.0), names + ("log10_cmc",), g0_fixed_mn)
-        return model_tension(c, best.model, g0 * 1e-3, ginf, k, np.inf, temperature, n, beta) * 1e3 - y
-
+    lo, hi = _bounds(names + ("log10_cmc",), np.log10(s.u), s.ybar)
+    fun = _Residuals(s.u, s.sw, s.ybar, best.model, names, g0_fixed_mn, temperature, n)
     with np.errstate(all="ignore"):
         res = _solve(fun, best.x[:-1], lo[:-1], hi[:-1])
-    npts, m_par = len(c), len(names) + 1
-    rss = max(float(res.fun @ res.fun), 1e-300)
+    npts, m_par = s.rows, len(names) + 1
+    rss = max(float(res.fun @ res.fun) + s.pure, 1e-300)
     aic = npts * math.log(rss * 1e-6 / npts) + 2 * m_par
     aicc = aic + 2 * m_par * (m_par + 1) / max(npts - m_par - 1, 1)
     if aicc <= best.aicc:
@@ -745,23 +1103,34 @@ def _no_plateau_check(data, best, temperature, n, g0_fixed_mn):
             f"with a break; expected at least {MIN_ABOVE} points on the plateau above the CMC")
 
 
-def _bootstrap(data, best, names, lo, hi, temperature, n, g0_fixed_mn, count, seed):
-    """Return 95 % percentile intervals from a residual bootstrap of the model used."""
+def _bootstrap(series, best, names, lo, hi, temperature, n, g0_fixed_mn, count, seed):
+    """Return 95 % percentile intervals from a residual bootstrap of the model used.
+
+    Every resample draws one residual per row (inflated by ``sqrt(n/(n - p))``), is averaged per
+    distinct concentration and fitted from the estimate; all resamples are one batched fit.
+    """
     rng = np.random.default_rng(seed)
-    c = data.concentration
-    fitted = data.tension - best.residuals
-    r = best.residuals * math.sqrt(len(c) / max(len(c) - len(names), 1))  # leverage-free inflation
-    samples = fitted[None, :] + rng.choice(r, size=(count, len(c)), replace=True)
-    out = {p: [] for p in PARAMS}
-    for y in samples:  # each resample is its own nonlinear fit
-        fun = _residuals_fn(c, y * 1e3, best.model, names, g0_fixed_mn, temperature, n)
-        with np.errstate(all="ignore"):
-            res = _solve(fun, best.x, lo, hi)
-        g0, ginf, k, beta, lcmc = _unpack(res.x, names, g0_fixed_mn)
-        for p, v in zip(PARAMS, (g0 * 1e-3, ginf, k, beta, 10.0 ** lcmc)):
-            out[p].append(v)
+    r = best.residuals * 1e3 * math.sqrt(series.rows / max(series.rows - len(names), 1))
+    fitted_u = series.ybar + np.bincount(series.inverse, weights=-best.residuals * 1e3,
+                                         minlength=len(series.u)) / series.w
+    targets = np.empty((count, len(series.u)))
+    chunk = max(1, int(2e6 // max(series.rows, 1)))
+    starts = np.concatenate([[0], np.cumsum(series.w.astype(int))[:-1]])
+    for a in range(0, count, chunk):  # memory bounded: at most about 2e6 draws at a time
+        b = min(count, a + chunk)
+        draws = rng.choice(r, size=(b - a, series.rows), replace=True)
+        sums = np.add.reduceat(draws, starts, axis=1)  # draws are iid: any row order
+        targets[a:b] = fitted_u + sums / series.w
+    X0 = np.repeat(best.x[None, :], count, axis=0)
+    X, cost = _lm(_batch_problem(series, best.model, names, g0_fixed_mn, temperature, n), X0, lo, hi,
+                  target=targets, iterations=60)
+    X = X[np.isfinite(cost)]
+    g0, ginf, k, beta, cmc = _split(X, names, g0_fixed_mn)
+    vals = {"clean_tension": np.broadcast_to(np.asarray(g0, float) * 1e-3, (len(X), 1))[:, 0],
+            "max_surface_excess": ginf[:, 0], "adsorption_constant": k[:, 0],
+            "interaction": np.broadcast_to(np.asarray(beta, float), (len(X), 1))[:, 0], "cmc": cmc[:, 0]}
     a = (1 - CONFIDENCE) / 2 * 100
-    return {p: tuple(float(q) for q in np.percentile(v, [a, 100 - a])) for p, v in out.items()}
+    return {p: tuple(float(q) for q in np.percentile(vals[p], [a, 100 - a])) for p in PARAMS}
 
 
 def fitted_curve(fit: TensionFit, model: str | None = None, points: int = 200):
