@@ -29,6 +29,7 @@ from typing import Annotated, Any, Literal
 import tomli_w
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, ValidationError, model_validator
 
+from . import plausible
 from .constants import AVOGADRO, SHAPE_FACTORS
 from .errors import InputError
 from .files import inside, read_regular, token
@@ -105,6 +106,11 @@ def _quantity(dimensions: tuple[str, ...], gt=None, ge=None, lt=None, le=None, s
             shown = f" ({si:g} {unit_si})" if unit_si and not isinstance(text, (int, float)) else ""
             raise ValueError(f"expected a value {bounds_text()}{' ' + unit_si if unit_si else ''}, "
                              f"got {text!r}{shown}")
+        if dim not in ("surface_excess", "area"):  # _check_packing names these slips better
+            try:  # plausibility (sizing.plausible): the same ranges as the lab files and fits
+                plausible.check("\x00", si, dim)
+            except InputError as exc:
+                raise ValueError(str(exc).replace("\x00: ", "", 1)) from None
 
     def validate(v):
         if isinstance(v, Value):
@@ -868,10 +874,15 @@ def parse_case(data: dict, base_dir: Path | str | None = None) -> Case:
 
 def loads_case(text: str, base_dir: Path | str | None = None, name: str = "case file") -> Case:
     """Validate a case given as TOML text."""
+    if text.startswith("\ufeff"):  # a byte-order mark, as some editors on Windows save it
+        text = text[1:]
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{name}: not valid TOML ({exc})") from None
+    except RecursionError:
+        raise InputError(f"{name}: nested too deeply to be a case file (tables or arrays inside "
+                         "each other hundreds of levels deep); expected the sections of a case") from None
     return parse_case(data, base_dir)
 
 
@@ -889,7 +900,7 @@ def load_case(path: Path | str) -> Case:
     if p.is_dir():
         raise InputError(f"{p}: is a folder; expected a case file (.toml)")
     try:
-        text = p.read_text(encoding="utf-8")
+        text = p.read_text(encoding="utf-8-sig")
     except (OSError, UnicodeDecodeError) as exc:
         raise InputError(f"{p}: cannot read the case file ({exc})") from None
     return loads_case(text, p.parent, name=str(p))

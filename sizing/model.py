@@ -13,6 +13,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from . import plausible
 from .case import point_x, read_size_table, table_path
 from .errors import InputError
 from .physics import balance, distribution, isotherm, phases
@@ -109,6 +110,7 @@ class Inputs:
     clean_tension_source: str = "case"
     lab_d32: object = math.nan  # [m] the case's own d32 when [scaleup] replaces it by the plant d32
     blend: BlendInputs | None = field(default=None, compare=False)  # set for a [blend] case
+    range_warnings: tuple = field(default=(), compare=False)  # values outside their usual range
 
     def with_values(self, **changes) -> "Inputs":
         """Return a copy with some fields replaced (e.g. ``d32=np.array([...])``)."""
@@ -230,7 +232,7 @@ def inputs_from_values(case, values: dict) -> Inputs:
         continuous_density=rho_c, dispersed_density=rho_d, d32=d32,
         shape_factor=values["drops.shape_factor"], clean_tension=gamma0,
         target_value=values[f"target.{kind}"], margin=values["target.margin"], size_stats=stats,
-        clean_tension_source=source, lab_d32=lab_d32, **act,
+        clean_tension_source=source, lab_d32=lab_d32, range_warnings=tuple(plausible.model_warnings(c)), **act,
     )
 
 
@@ -730,4 +732,4 @@ def solution_warnings(sol: Solution) -> list[str]:
     """Return the warnings of a solved state: size-table notes, tension and plausibility checks."""
     i = sol.inputs
     size_notes = list(getattr(i.size_stats, "notes", ()) or ())
-    return size_notes + tension_warnings(i, sol.tension) + plausibility_warnings(sol)
+    return size_notes + list(i.range_warnings) + tension_warnings(i, sol.tension) + plausibility_warnings(sol)
