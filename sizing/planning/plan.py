@@ -476,17 +476,25 @@ def plan_warnings(plan: Plan) -> list[str]:
         if w not in out:
             out.append(w)
     at_ceiling = [t for t in plan.trial if t.micelle_share > 1e-9]
-    if len(at_ceiling) >= 2 and len(plan.trial) - len(at_ceiling) < 2:
+    if len(at_ceiling) >= 2:  # however many levels lie below (a Monte Carlo charge often sits at the ceiling)
         names = ", ".join(f"{t.level:g} x" for t in at_ceiling)
-        out.append(f"trial levels {names} sit at the CMC ceiling (coverage {at_ceiling[0].coverage:.3g}): "
-                   "they differ only in micelles, so coverage, tension and drop size will hardly tell them "
-                   "apart; put more levels below the charge (e.g. 0.6 x, 0.8 x) to find where the "
-                   "dispersion starts to fail")
+        text = (f"trial levels {names} sit at the CMC ceiling (coverage {at_ceiling[0].coverage:.3g}): "
+                "they differ only in micelles, so coverage, tension and drop size will hardly tell them apart")
+        if len(plan.trial) - len(at_ceiling) < 2:
+            text += ("; put more levels below the charge (e.g. 0.6 x, 0.8 x) to find where the dispersion "
+                     "starts to fail")
+        else:
+            text += ("; only the levels below them show where the dispersion starts to fail, so the upper "
+                     "levels test only the micelle excess (foaming, depletion flocculation, cost)")
+        out.append(text)
     share = plan.recommendation.micelle_share_at_charge
     if share > 0.2:
         out.append(f"{100 * share:.3g} % of the recommended charge forms micelles: the target sits close to the "
                    "CMC ceiling, and surfactant above the ceiling adds micelles (foaming, depletion "
                    "flocculation, cost) rather than coverage")
+    ads = plan.adsorption
+    if ads is not None and ads.optimistic and ads.message not in out:  # the adsorption-speed verdict
+        out.append(ads.message)
     unc = plan.uncertainty
     if unc is not None:
         out += [n for n in uncertainty_notes(unc.monte_carlo, unc.sensitivity) if n not in out]
