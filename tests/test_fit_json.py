@@ -24,6 +24,8 @@ TENSION_KEYS = [
     "area_per_molecule_m2", "area_per_molecule_interval_m2", "temperature_K", "gibbs_prefactor",
     "clean_tension_fitted", "n_points", "n_below_cmc", "n_above_cmc", "residuals_N_m",
     "residual_sd_N_m", "models", "bootstrap", "source", "notes", "warnings",
+    "interval_method", "linearised_intervals", "surface_excess_at_cmc_mol_m2",
+    "surface_excess_at_cmc_interval_mol_m2", "coverage_at_cmc",
 ]
 
 

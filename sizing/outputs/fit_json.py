@@ -15,7 +15,7 @@ from ..fitting.depletion import DepletionFit
 from ..fitting.partition import CONFIDENCE as PARTITION_CONFIDENCE
 from ..fitting.partition import PartitionFit
 from ..fitting.tension import CONFIDENCE as TENSION_CONFIDENCE
-from ..fitting.tension import PARAMS, TensionFit
+from ..fitting.tension import PARAMS, TensionFit, surface_excess_at_cmc
 from ..physics.isotherm import area_from_surface_excess
 from .jsonify import json_number, to_jsonable
 
@@ -37,9 +37,14 @@ def tension_fit_json(fit: TensionFit) -> dict:
     ``selection``, ``confidence``, ``intervals`` and ``standard_errors`` (same keys),
     the area per molecule and its interval [m**2], the temperature [K], the Gibbs prefactor,
     point counts, residuals [N/m], every model's AIC/AICc/RSS and parameters, the bootstrap
-    intervals (or null), ``source``, ``notes`` and ``warnings``.
+    intervals (or null), ``source``, ``notes`` and ``warnings``.  Added later:
+    ``interval_method`` and ``linearised_intervals``; ``surface_excess_at_cmc_mol_m2`` (the Gibbs
+    slope just below the CMC, little dependent on the model) with its interval, also per model;
+    ``coverage_at_cmc`` (Gamma/Gamma_inf of the model used at the CMC: what a coverage target
+    means).
     """
     b = fit.best
+    excess = {m: surface_excess_at_cmc(f, fit.temperature, fit.gibbs_prefactor) for m, f in fit.fits.items()}
     keys = TENSION_KEYS
     out = {keys[k]: b.params[k] for k in PARAMS}
     out.update(
@@ -61,7 +66,8 @@ def tension_fit_json(fit: TensionFit) -> dict:
         residual_sd_N_m=float(np.sqrt(b.rss / max(len(b.residuals) - len(b.fitted), 1))),
         models={
             m: {"aic": f.aic, "aicc": f.aicc, "rss_N2_m2": f.rss,
-                **{keys[k]: f.params[k] for k in PARAMS}}
+                **{keys[k]: f.params[k] for k in PARAMS},
+                "surface_excess_at_cmc_mol_m2": excess[m][0]}
             for m, f in fit.fits.items()
         },
         bootstrap=(None if fit.bootstrap is None else
@@ -69,6 +75,14 @@ def tension_fit_json(fit: TensionFit) -> dict:
         source=fit.data.path,
         notes=list(fit.notes),
         warnings=list(fit.warnings),
+    )
+    out.update(  # added after the first contract: appended, so the earlier order holds
+        interval_method=b.interval_method,
+        linearised_intervals=(None if b.linearised is None else
+                              {keys[k]: list(b.linearised[k]) for k in PARAMS}),
+        surface_excess_at_cmc_mol_m2=excess[fit.model][0],
+        surface_excess_at_cmc_interval_mol_m2=list(excess[fit.model][1]),
+        coverage_at_cmc=excess[fit.model][0] / b.params["max_surface_excess"],
     )
     return to_jsonable(out)
 
