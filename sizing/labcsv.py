@@ -326,6 +326,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         if comma or bad or infinite:
             continue
         values = numbers
+        if dim == "dimensionless" and unit.strip() in ("-", "1"):  # 'fraction [-]': a plain number
+            unit = ""
         if dim and unit:
             field = f"{p}: column {token(cell, MAX_HEADER)}"
             if len(unit) > MAX_TOKEN:
@@ -333,9 +335,9 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
                                 "short unit such as 'mN/m' or 'um'")
                 continue
             try:
-                if dim == "temperature":  # offset units: convert each value
-                    values = np.array([parse(f"{x} {unit}", field, dim) if np.isfinite(x) else np.nan
-                                       for x in numbers])
+                if dim == "temperature":  # offset units are affine: SI = t0 + x (t1 - t0), as a column
+                    t0, t1 = parse(f"0 {unit}", field, dim), parse(f"1 {unit}", field, dim)
+                    values = t0 + numbers * (t1 - t0)
                 else:  # every other unit is a plain factor
                     values = numbers * parse(f"1 {unit}", field, dim)
             except InputError as exc:

@@ -1,8 +1,10 @@
-"""``sizing fit tension|depletion|partition``: turn lab data into surfactant parameters."""
+"""``sizing fit tension|depletion|partition|interaction``: turn lab data into surfactant parameters."""
 
 from __future__ import annotations
 
 import sys
+
+import numpy as np
 
 from ..errors import InputError
 from ..fitting.block import fit_depletion, fit_partition, fit_tension, read_tension_csv, write_fitted_block
@@ -10,7 +12,7 @@ from ..outputs.fit_json import depletion_fit_json, partition_fit_json, tension_f
 from ..outputs.jsonify import dumps
 from ..physics.isotherm import area_from_surface_excess
 from ..physics.properties import water_surface_tension
-from ..units import format_si, parse
+from ..units import format_si, parse, sig
 
 
 def register(subparsers) -> None:
@@ -58,6 +60,14 @@ def register(subparsers) -> None:
     q.add_argument("--json", action="store_true", help="print JSON")
     q.set_defaults(func=_partition)
 
+    m = sub.add_parser("interaction", help="mixed-micelle interaction beta from mixed CMCs",
+                       description="Fit the regular-solution interaction beta of a two-component mixed "
+                                   "micelle: CSV with 'fraction [-],cmc [unit]' (mole fraction of the first "
+                                   "component; rows at 0 and 1 give the pure CMCs). beta = 0 is ideal mixing.")
+    m.add_argument("data", metavar="DATA.csv")
+    m.add_argument("--json", action="store_true", help="print JSON")
+    m.set_defaults(func=_interaction)
+
 
 def _warn(lines) -> None:
     for w in lines:
@@ -98,7 +108,8 @@ def _tension_text(fit) -> str:
         rows.append(("interaction beta", "interaction", "dimensionless", None))
     lines = [f"{fit.data.path}: {len(fit.data.concentration)} points, {fit.n_below} below and "
              f"{fit.n_above} above the CMC, {fit.temperature - 273.15:.4g} degC, n = {fit.gibbs_prefactor:g}",
-             f"model used: {fit.selection}", "",
+             f"model used: {fit.selection}",
+             f"intervals: {b.interval_method}", "",
              f"{'parameter':<24}{'value':>22}   95 % interval"]
     for label, key, dim, unit in rows:
         v = format_si(b.params[key], dim, unit, 4)
@@ -117,13 +128,26 @@ def _tension_text(fit) -> str:
         sd = (f.rss / max(len(f.residuals) - len(f.fitted), 1)) ** 0.5
         lines.append(f"{m:<12}{f.aicc:>10.2f}{format_si(sd, 'tension', 'mN/m', 3):>18}"
                      f"{'   <- used' if m == fit.model else ''}")
-    lines += ["", f"{'concentration':>16}{'tension':>14}{'residual':>14}"]
-    for c, g, r in zip(fit.data.concentration, fit.data.tension, b.residuals):
-        lines.append(f"{format_si(c, 'concentration', 'mM', 4):>16}{format_si(g, 'tension', 'mN/m', 4):>14}"
-                     f"{format_si(r, 'tension', 'mN/m', 2):>14}")
+    lines += _residual_table(fit)
     if fit.notes:
         lines += [""] + [f"note: {n}" for n in fit.notes]
     return "\n".join(lines)
+
+
+def _residual_table(fit) -> list:
+    """The residual table: one line per row, or per distinct concentration (mean, count) when
+    the series has replicates; units converted once per column, not per cell."""
+    fc, ft = (1.0 / parse(f"1 {u}", "unit", d) for u, d in (("mM", "concentration"), ("mN/m", "tension")))
+    c, g, r = fit.data.concentration, fit.data.tension, fit.best.residuals
+    u, inv, w = np.unique(c, return_inverse=True, return_counts=True)
+    if len(u) == len(c):
+        head, rows = f"{'concentration':>16}{'tension':>14}{'residual':>14}", zip(c, g, r)
+        return ["", head] + [f"{sig(a * fc, 4) + ' mM':>16}{sig(b * ft, 4) + ' mN/m':>14}"
+                             f"{sig(e * ft, 2) + ' mN/m':>14}" for a, b, e in rows]
+    mean = lambda v: np.bincount(inv, weights=v, minlength=len(u)) / w  # noqa: E731
+    head = f"{'concentration':>16}{'rows':>7}{'mean tension':>15}{'mean residual':>15}"
+    return ["", head] + [f"{sig(a * fc, 4) + ' mM':>16}{k:>7}{sig(b * ft, 4) + ' mN/m':>15}"
+                         f"{sig(e * ft, 2) + ' mN/m':>15}" for a, k, b, e in zip(u, w, mean(g), mean(r))]
 
 
 def _depletion(args) -> int:
@@ -175,6 +199,27 @@ def _partition(args) -> int:
         lines.append(f"{r['row']:>4}{format_si(r['water_concentration_mol_m3'], 'concentration', 'mM', 4):>16}"
                      f"{format_si(r['oil_concentration_mol_m3'], 'concentration', 'mM', 4):>16}"
                      f"{r['ratio']:>12.4g}  {r['flag'] or ''}")
+    lines += [f"note: {n}" for n in res.notes]
+    print("\n".join(lines))
+    return 0
+
+
+def _interaction(args) -> int:
+    from ..fitting.micelles import fit_interaction  # deferred: only this sub-command needs it
+    from ..outputs.fit_json import interaction_fit_json
+
+    res = fit_interaction(args.data)
+    if args.json:
+        print(dumps(interaction_fit_json(res)))
+        return 0
+    lo, hi = res.interaction_interval
+    lines = [f"{res.path}: mixed-micelle interaction beta = {res.interaction:.4g} [-] (95 %: {lo:.3g} to {hi:.3g} [-]), "
+             f"regular solution (Rubingh), {res.rows} rows",
+             f"pure CMCs: first component {format_si(res.cmc_1, 'concentration', 'mM', 4)}, second "
+             f"{format_si(res.cmc_2, 'concentration', 'mM', 4)}; rms residual of ln CMC {res.rms_ln:.3g}",
+             "synergism: the mixed CMC falls below both pure CMCs" if res.synergism else
+             "no synergism in the CMC (it stays between the pure CMCs)",
+             f"use in a case: [blend] micelles = \"regular\", interaction = {res.interaction:.3g}"]
     lines += [f"note: {n}" for n in res.notes]
     print("\n".join(lines))
     return 0

@@ -111,3 +111,12 @@ def partition_fit_json(fit: PartitionFit) -> dict:
                         "confidence": PARTITION_CONFIDENCE, "cmc_mol_m3": fit.cmc,
                         "cmc_source": fit.cmc_source, "method": fit.method, "rows": fit.rows,
                         "source": fit.path, "notes": list(fit.notes)})
+
+
+def interaction_fit_json(fit) -> dict:
+    """Return the plain data printed by ``sizing fit interaction --json`` (SI; beta dimensionless)."""
+    return to_jsonable({"interaction": fit.interaction, "interaction_interval": list(fit.interaction_interval),
+                        "confidence": 0.95, "interval_method": "profile likelihood",
+                        "cmc_1_mol_m3": fit.cmc_1, "cmc_2_mol_m3": fit.cmc_2, "rms_ln_cmc": fit.rms_ln,
+                        "synergism": fit.synergism, "rows": fit.rows, "model": "regular solution (Rubingh 1979)",
+                        "source": fit.path, "notes": list(fit.notes)})

@@ -67,6 +67,7 @@ def _quiet(fn):
             return fn(*args, **kwargs)
     return run
 _TINY = 1e-300
+_ALPHA_MIN = 1e-250  # smaller mole fractions count as this (their share is nil)
 
 
 @dataclass(frozen=True)
@@ -164,7 +165,7 @@ def _batch(blend: Blend, continuous_volume, dispersed_volume, area, extra_shape=
     alpha, cmc, k, g, u = (np.broadcast_to(x, shape).reshape(-1, m) for x in arrays)
     vc, vd, a = (np.broadcast_to(x, shape).reshape(-1, m) for x in (vc, vd, a))
     beta = np.broadcast_to(beta, shape[:-1] + (1,)).reshape(-1)
-    alpha = np.maximum(alpha, _TINY)
+    alpha = np.maximum(alpha, _ALPHA_MIN)
     return _Batch(alpha=alpha, cmc=cmc, k=k, s=g * a, veff=vc + u * vd, vc=vc, vd=vd, uptake=u,
                   gamma=g, beta=beta, regular=blend.micelles == "regular", shape=shape)
 
@@ -232,8 +233,9 @@ def _two(b: _Batch, y, idx):
     return dict(x1=x1, x2=x2, c1=c1, c2=c2, t1=t1, t2=t2, dt1=dt1, dt2=dt2)
 
 
-def _y_limits(n_rows):
-    return np.full(n_rows, -300.0), np.full(n_rows, 300.0)
+def _y_limits(alpha):
+    """Wide brackets of y = logit(x_1) that hold a micelle composition of any charged mixture."""
+    return (np.minimum(-300.0, np.log(alpha[:, 0]) - 60.0), np.maximum(300.0, -np.log(alpha[:, 1]) + 60.0))
 
 
 def _onset_two(b: _Batch, rows):
@@ -253,11 +255,16 @@ def _onset_two(b: _Batch, rows):
         dg = dx1 * (1.0 / t["x1"] + t["dt1"] / t["t1"] + 1.0 / t["x2"] - t["dt2"] / t["t2"])
         return g, dg
 
-    lo, hi = _y_limits(rows.size)
-    # start at the ideal onset composition of the continuous phase alone, a good guess
-    c_m = (b.cmc)[rows]
-    x0 = np.log(alpha[:, 0] / c_m[:, 0] * c_m[:, 1] / alpha[:, 1]) if rows.size else np.zeros(0)
-    y = bracketed_newton(fdf, lo, hi, x0=np.clip(x0, -290, 290), xtol=1e-13, rtol=1e-15)
+    # g = y + ln(f_1 C_1 Q_1 / (f_2 C_2 Q_2)) + ln(alpha_2 / alpha_1): the root lies within the
+    # bounds of the middle term around the ideal guess (|ln f_i| <= |beta|, V_eff <= Q <= V_eff + S K)
+    c_m = b.cmc[rows]
+    ve, sk = b.veff[rows], b.s[rows] * b.k[rows]
+    x0 = (np.log(alpha[:, 0] / c_m[:, 0] * c_m[:, 1] / alpha[:, 1]) - np.log(ve[:, 0] / ve[:, 1])
+          if rows.size else np.zeros(0))
+    width = (np.abs(b.beta[rows]) + np.sum(np.log1p(sk / ve), axis=-1) + 1.0) if rows.size else np.zeros(0)
+    wide_lo, wide_hi = _y_limits(alpha)
+    lo, hi = np.maximum(x0 - width, wide_lo), np.minimum(x0 + width, wide_hi)
+    y = bracketed_newton(fdf, lo, hi, x0=np.clip(x0, lo, hi), xtol=1e-13, rtol=1e-15)
     t = _two(b, y, rows)
     n_on = t["x1"] * t["t1"] / alpha[:, 0]
     return n_on, y
@@ -275,7 +282,7 @@ def _micellar_two(b: _Batch, n, rows):
         dx1 = t["x1"] * t["x2"]
         return -f / n[idx], -df * dx1 / n[idx]
 
-    lo, hi = _y_limits(rows.size)
+    lo, hi = _y_limits(alpha)
     # tight brackets from N_mic >= 0: x_i <= alpha_i N / (min f_i C_i V_eff_i); kept where the
     # residual has the right sign there, else the wide limits
     beta = b.beta[rows]

@@ -79,11 +79,13 @@ def bracketed_newton(fdf, lo, hi, x0=None, *, xtol=1e-13, rtol=4e-16, maxiter=20
             xn = xi - step
         # bisect when Newton leaves the bracket or does not halve the previous step (a Newton
         # cycle around an inflection, as Frumkin with strong repulsion makes)
+        # a Newton step below the tolerance is the answer (it may round onto a bracket end)
+        tiny = np.isfinite(xn) & (np.abs(xn - xi) <= xtol + rtol * np.abs(xi))
         bad = (~np.isfinite(xn) | (xn <= lo[open_]) | (xn >= hi[open_])
-               | (np.abs(xn - xi) > 0.5 * last[open_]))
+               | (np.abs(xn - xi) > 0.5 * last[open_])) & ~tiny
         xn = np.where(bad, 0.5 * (lo[open_] + hi[open_]), xn)
         last[open_] = np.abs(xn - xi)
-        done = (f == 0) | (np.abs(xn - xi) <= xtol + rtol * np.abs(xi)) | (
+        done = (f == 0) | tiny | (np.abs(xn - xi) <= xtol + rtol * np.abs(xi)) | (
             hi[open_] - lo[open_] <= xtol + rtol * np.abs(xi)
         )
         x[open_] = np.where(f == 0, xi, xn)
