@@ -125,3 +125,47 @@ def field_label(path: str) -> str:
     'some key'
     """
     return FIELD_LABELS.get(path) or path.partition(".")[2].replace("_", " ")
+
+
+# ---------------------------------------------------------------------------------------------
+# the number in context (beside the headline of the report and the terminal)
+
+DOSE_CONTEXT = (
+    "This is the equilibrium demand of the interface and the phases: the least surfactant that covers "
+    "the drops or bubbles to the target once adsorption, partitioning and micelles have settled. It is "
+    "often far below a recipe's use level (creams commonly carry 1-5 % emulsifier), which also pays for "
+    "storage stability, texture, process losses and ingredients that bind surfactant; do not cut an "
+    "existing recipe down to it without trials.")
+
+DOSE_CONTEXT_SHORT = ("equilibrium demand of interface and phases; often far below a recipe's use level "
+                      "(which also pays for stability and losses)")
+
+
+# ---------------------------------------------------------------------------------------------
+# what accepts a trial level (report and trial_plan.csv)
+
+PASS_BAND = 0.10  # our choice of acceptance band on d32 (about a laser-diffraction repeatability); see PASS_NOTE
+
+PASS_NOTE = ("Pass criteria use a 10 % band on the planned d32 as a starting point (our choice, about the "
+             "repeatability of a size measurement); replace it by the product specification where one exists.")
+
+
+def pass_criterion(system: str, continuous: str, level: float, d32_um: float) -> str:
+    """Return what result accepts a trial level (``d32_um``: the planned Sauter mean in µm).
+
+    >>> pass_criterion("emulsion", "water", 1.0, 3.0)[:60]
+    'pass if the fresh d32 is at most 3.3 µm (planned 3 µm + 10 %'
+    """
+    limit = d32_um * (1 + PASS_BAND)
+    if system == "foam":
+        what = (f"pass if the fresh bubble d32 is at most {limit:.3g} µm (planned {d32_um:.3g} µm + 10 %), "
+                "and overrun and drainage half-life meet the product specification")
+    else:
+        layer = "no free water layer or sediment" if continuous == "oil" else "no free oil and creaming"
+        what = (f"pass if the fresh d32 is at most {limit:.3g} µm (planned {d32_um:.3g} µm + 10 %), within "
+                f"10 % of it after 24 h, and {layer} beyond the product specification")
+    if level < 1 - 1e-9:
+        return what + "; a pass here says the charge could come down to this level (repeat before adopting it)"
+    if level > 1 + 1e-9:
+        return what + "; expected to pass: if the 1 x level fails and this one passes, adopt this level"
+    return what + "; a pass confirms the recommended charge"

@@ -16,6 +16,7 @@ from pathlib import Path
 import pytest
 
 from sizing.case import load_case
+from sizing.outputs.htmlbits import unit_text
 from sizing.outputs.report import render
 from sizing.outputs.result_json import plan_json
 from sizing.planning.plan import build_plan, plan_warnings
@@ -65,4 +66,4 @@ def test_every_warning_on_stdout_and_in_result_json(mini, tmp_path):
     assert stdout_warnings == saved == plan_warnings(plan)
     box = _top_box((out / "report.html").read_text(encoding="utf-8"))
     for w in saved:
-        assert html_escape(w, quote=True) in box
+        assert html_escape(unit_text(w), quote=True) in box

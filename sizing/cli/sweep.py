@@ -9,6 +9,7 @@ digits, empty cells where there is no value) and written through :func:`sizing.f
 from __future__ import annotations
 
 import csv
+import importlib
 import io
 import sys
 
@@ -82,8 +83,8 @@ def csv_bytes(df, chunk_rows: int = 1 << 14) -> bytearray:
     >>> bytes(csv_bytes(df)).decode() == df.to_csv(index=False, float_format="%.10g").replace("e-08", "e-8")
     True
     """
-    import pyarrow as pa  # deferred: pyarrow is heavy and only the CSV needs it
-    import pyarrow.compute as pc  # deferred with pyarrow
+    pa = importlib.import_module("pyarrow")  # deferred: pyarrow is heavy and only the CSV needs it
+    pc = importlib.import_module("pyarrow.compute")
 
     head = io.StringIO()
     csv.writer(head, lineterminator="\n").writerow(list(df.columns))

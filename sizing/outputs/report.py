@@ -5,14 +5,26 @@ The report is a constant tuple of section renderers, :data:`SECTIONS`; each take
 optional parts (scale-up, achievable d32, uncertainty, adsorption speed) are drawn by the
 renderers of :mod:`sizing.outputs.report_parts`.
 
-Charts are inline SVG (:mod:`sizing.outputs.htmlbits`): with a fixed hash salt and no date the
-whole report is byte-identical for the same inputs.  Nothing is loaded from the network.
+The head is a filing block a plant can keep: the date, the case file's name and SHA-256 hash, the
+revision, and prepared-by / checked-by lines (names from ``sizing plan --prepared-by NAME
+--checked-by NAME --revision TEXT``, else blank lines to sign).  Then the headline, its context
+line and one box with every warning of the plan (the same list as the terminal and result.json).
+
+Charts are inline SVG (:mod:`sizing.outputs.htmlbits`) in fixed layouts; the sections of a plan are
+drawn once and kept while the plan lives, so a second render (new names in the head) draws no
+chart again.  With a fixed hash salt the whole report is byte-identical for the same inputs and
+the same date (``SOURCE_DATE_EPOCH`` fixes the date).  Nothing is loaded from the network.
 """
 
 from __future__ import annotations
 
 import base64
+import datetime as _dt
+import hashlib
 import math
+import os
+import re
+import weakref
 from pathlib import Path
 
 import numpy as np
@@ -23,8 +35,9 @@ from ..fitting.block import plot_svg_for_provenance
 from ..physics.phases import phase_names
 from ..planning.blendplan import split_kg_active
 from ..planning.plan import plan_warnings
+from ..texts import DOSE_CONTEXT, PASS_NOTE, pass_criterion
 from ..version import __version__
-from .htmlbits import CSS, chart, esc, q, section, table  # noqa: F401  (q: re-exported)
+from .htmlbits import CSS, chart, esc, q, section, table, unit_text  # noqa: F401  (q: re-exported)
 from .report_parts import (
     render_achievable,
     render_adsorption,
@@ -54,7 +67,8 @@ def render_summary(plan) -> str:
     else:
         target = q(t["value_si"], "mM (free monomer)")
     lead = (f'<p class="big">Charge {esc(q(r.kg_product_per_batch, "kg"))} of '
-            f'{esc(c.active_name)} per batch ({esc(q(r.kg_active_per_batch, "kg"))} active)</p>')
+            f'{esc(c.active_name)} per batch ({esc(q(r.kg_active_per_batch, "kg"))} active)</p>'
+            f'<p class="context">{esc(DOSE_CONTEXT)}</p>')
     if not plan.feasible:
         lead += ('<p class="warn"><b>Target not reachable at equilibrium.</b> This charge is built on the '
                  'dose that just reaches the CMC ceiling; see "Target not reachable" below.</p>')
@@ -76,8 +90,10 @@ def render_summary(plan) -> str:
         ("tension at the charge", q(r.tension_at_charge, "mN/m", scale=1e3)),
         ("micelles at the charge", q(100 * r.micelle_share_at_charge, "% of the charge")),
     ]
-    for w in plan_warnings(plan):
-        lead += f'<p class="warn"><b>Check:</b> {esc(w)}</p>'
+    warnings = plan_warnings(plan)
+    if warnings:  # one box, the same list as the terminal and result.json "warnings"
+        lead += ('<div class="checks" id="checks"><b>Check before the trial '
+                 f'({len(warnings)}):</b><ul>' + "".join(f"<li>{esc(unit_text(w))}</li>" for w in warnings) + "</ul></div>")
     return section("recommendation", "Recommendation", lead + table(rows))
 
 
@@ -239,16 +255,7 @@ def render_d32_chart(plan) -> str:
                 label="charge with margin, rounded")
         ax.plot([d32_case * 1e6], [r.kg_product_per_batch], "D", color="#c0392b", ms=6,
                 label=f"this case: d32 {q(d32_case, 'um', scale=1e6)}")
-        ax.set_xscale("log")
-        from matplotlib.ticker import (  # deferred: matplotlib is heavy
-            LogLocator,
-            NullFormatter,
-            ScalarFormatter,
-        )
-
-        ax.xaxis.set_major_locator(LogLocator(subs=(1.0, 2.0, 5.0)))
-        ax.xaxis.set_major_formatter(ScalarFormatter())
-        ax.xaxis.set_minor_formatter(NullFormatter())
+        ax.set_xscale("log")  # plain tick labels 0.1, 0.2, 0.5 ... (htmlbits' fixed layout)
         ax.set_xlabel("Sauter mean diameter d32 [um]")
         ax.set_ylabel("product per batch [kg]")
         ax.set_ylim(bottom=0)
@@ -286,9 +293,12 @@ def render_trial(plan) -> str:
               f"recommended charge, rounded to the nearest {esc(q(plan.recommendation.increment_kg, 'kg'))} step; "
               "coverage, free monomer, tension and micelles are the forward equilibrium for the amount "
               "charged.</p>")
-    body += "<p>What to measure at each level:</p><ul>" + "".join(
-        f"<li><b>{t.level:g} x ({esc(q(t.kg_product, 'kg'))})</b>: {esc('; '.join(t.measure))}</li>"
-        for t in plan.trial) + "</ul>"
+    d32_um = solution_json(plan.solution, plan.case)["d32_m"] * 1e6
+    sysname, cont = plan.case.case.system, plan.case.case.continuous
+    body += "<p>What to measure at each level, and what result accepts it:</p><ul>" + "".join(
+        f"<li><b>{t.level:g} x ({esc(q(t.kg_product, 'kg'))})</b>: {esc('; '.join(t.measure))}."
+        f"<br><b>Pass criterion:</b> {esc(pass_criterion(sysname, cont, t.level, d32_um))}.</li>"
+        for t in plan.trial) + f'</ul><p class="muted">{esc(PASS_NOTE)}</p>'
     return section("trial", "Trial matrix", body)
 
 
@@ -380,19 +390,91 @@ SECTIONS = (render_summary, render_case, render_split, render_blend, render_cove
             render_unreachable, render_assumptions, render_cautions)
 
 
-def render(plan, sections=None) -> str:
-    """Return the report as one self-contained HTML document (deterministic for given inputs).
+_BODIES: dict[int, str] = {}  # id(plan) -> the sections' HTML, dropped when the plan is collected
+MAX_CASE_BYTES = 16 * 1024 * 1024
+_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def _body(plan) -> str:
+    key = id(plan)
+    body = _BODIES.get(key)
+    if body is None:
+        body = "\n".join(p for p in (r(plan) for r in SECTIONS) if p)
+        try:
+            weakref.finalize(plan, _BODIES.pop, key, None)
+            _BODIES[key] = body
+        except TypeError:  # an object without weak references: no cache
+            pass
+    return body
+
+
+def report_date() -> str:
+    """Return the report's date, ISO (``SOURCE_DATE_EPOCH`` when set, else today in UTC)."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    when = (_dt.datetime.fromtimestamp(int(epoch), _dt.timezone.utc) if epoch.isdigit()
+            else _dt.datetime.now(_dt.timezone.utc))
+    return when.date().isoformat()
+
+
+def case_file_hash(source) -> str | None:
+    """Return the SHA-256 (hex) of the case file the user handed over, None without one."""
+    if not source:
+        return None
+    try:
+        return hashlib.sha256(read_regular(Path(source), "case", MAX_CASE_BYTES)).hexdigest()
+    except (InputError, OSError):
+        return None
+
+
+def _person(text) -> str:
+    """A name for the head: printable, at most 120 characters, '' for none."""
+    return _CONTROL.sub("?", str(text or "")).strip()[:120]
+
+
+def render_filing(plan, prepared_by=None, checked_by=None, revision=None, date=None) -> str:
+    """Return the filing block: date, case file and its SHA-256, revision, prepared-by and checked-by."""
+    blank = "\u00a0" * 2
+    name = Path(plan.source).name if plan.source else "none (case built in memory)"
+    digest = case_file_hash(plan.source)
+    rev = _person(revision)
+    rows = [
+        ("date", date or report_date(), "case file", name, "revision", rev or blank),
+        ("SHA-256 of the case file", digest or "not available (no case file read)"),
+        ("prepared by", _person(prepared_by) or blank, "signature", blank, "date", blank),
+        ("checked by", _person(checked_by) or blank, "signature", blank, "date", blank),
+    ]
+    out = ['<table class="filing" id="filing">']
+    for r in rows:
+        if len(r) == 2:
+            out.append(f"<tr><th>{esc(r[0])}</th><td colspan=\"5\"><code>{esc(r[1])}</code></td></tr>")
+            continue
+        cells = []
+        for j in range(0, len(r), 2):
+            cls = ' class="sign"' if r[j] in ("prepared by", "checked by", "signature") else ""
+            cells.append(f"<th>{esc(r[j])}</th><td{cls}>{esc(r[j + 1])}</td>")
+        out.append("<tr>" + "".join(cells) + "</tr>")
+    out.append("</table>")
+    return "\n".join(out)
+
+
+def render(plan, sections=None, *, prepared_by=None, checked_by=None, revision=None, date=None) -> str:
+    """Return the report as one self-contained HTML document (deterministic for given inputs and date).
 
     Parameters
     ----------
     plan : :class:`sizing.plan.Plan`
-    sections : renderers to use (default :data:`SECTIONS`)
+    sections : renderers to use (default :data:`SECTIONS`; those are drawn once per plan)
+    prepared_by, checked_by, revision : names and revision for the filing block (blank lines without)
+    date : the report date as text (default :func:`report_date`)
     """
-    parts = [r(plan) for r in (SECTIONS if sections is None else sections)]
+    if sections is None:
+        body = _body(plan)
+    else:
+        body = "\n".join(p for p in (r(plan) for r in sections) if p)
     title = plan.case.case.title
     head = (f'<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n'
             f"<title>{esc(title)}: surfactant dose plan</title>\n<style>{CSS}</style>\n</head>\n<body>\n"
-            f"<h1>{esc(title)}</h1>\n<p class=\"muted\">Surfactant dose plan by sizing {esc(__version__)}"
-            f"{(' from ' + esc(plan.source)) if plan.source else ''}. Every quantity carries its unit; "
-            "(-) marks a dimensionless number.</p>\n")
-    return head + "\n".join(p for p in parts if p) + "\n</body>\n</html>\n"
+            f"<h1>{esc(unit_text(title))}</h1>\n<p class=\"muted\">Surfactant dose plan by sizing {esc(__version__)}. "
+            "Every quantity carries its unit; (-) marks a dimensionless number.</p>\n"
+            + render_filing(plan, prepared_by, checked_by, revision, date) + "\n")
+    return head + body + "\n</body>\n</html>\n"

@@ -7,16 +7,29 @@ its part is absent (``None``).
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 
-from .htmlbits import chart, esc, q, section, table
+from ..texts import field_label
+from .htmlbits import chart, esc, q, section, table, unit_text
 from .result_json import achievable_part_json, adsorption_json, scaleup_part_json, uncertainty_part_json
 
 
-def _input_name(path: str) -> str:
-    """Name a sampled input for charts and tables (the scale-up band is not a case field)."""
-    return "plant d32 (scale-up band)" if path == "scaleup.plant_d32" else path
+def _input_name(path: str, components=()) -> str:
+    """Name a sampled input as people say it (``"surfactant.cmc"`` -> ``"CMC"``), not its TOML path.
+
+    The scale-up band is not a case field; a blend component's field is named with the component
+    (``"blend.component[1].cmc"`` -> ``"nonionic B: CMC"``).
+    """
+    if path == "scaleup.plant_d32":
+        return "plant d32 (scale-up band)"
+    m = re.fullmatch(r"blend\.component\[(\d+)\]\.(\w+)", path)
+    if m:
+        i = int(m.group(1))
+        who = components[i] if i < len(components) else f"component {i + 1}"
+        return f"{who}: {field_label('surfactant.' + m.group(2))}"
+    return field_label(path)
 
 
 def render_scaleup(plan) -> str:
@@ -93,18 +106,19 @@ def render_uncertainty(plan) -> str:
         ax.legend(fontsize=7)
 
     sens = j.get("sensitivity") or []
+    comps = tuple(plan.inputs.blend.names) if getattr(plan.inputs, "blend", None) is not None else ()
 
     def draw_tornado(fig):
         ax = fig.add_subplot()
         base = j["deterministic_kg_product"] or 0.0
-        names = [_input_name(s["path"]) for s in sens][::-1]
+        names = [_input_name(s["path"], comps) for s in sens][::-1]
         for i, s in enumerate(sens[::-1]):
             lo, hi = s["dose_low_kg"], s["dose_high_kg"]
             if lo is None or hi is None:
                 continue
             ax.barh(i, hi - base, left=base, color="#c0392b", alpha=0.7)
             ax.barh(i, lo - base, left=base, color="#1f5fa8", alpha=0.7)
-        ax.set_yticks(range(len(names)), names, fontsize=7)
+        ax.set_yticks(range(len(names)), names, fontsize=8)
         ax.axvline(base, color="#333", lw=1)
         ax.set_xlabel("product needed per batch [kg] (blue: input at its low end, red: high end)")
 
@@ -124,7 +138,7 @@ def render_uncertainty(plan) -> str:
     if sens:
         body += chart(draw_tornado, "Sensitivity (tornado): the dose with each input at its P10 and P90 "
                                     "(low and high for a uniform spread), the others at their values.")
-        body += table([(_input_name(s["path"]), q(s["dose_low_kg"], "kg"), q(s["dose_high_kg"], "kg"),
+        body += table([(_input_name(s["path"], comps), q(s["dose_low_kg"], "kg"), q(s["dose_high_kg"], "kg"),
                         q(s["elasticity"], "(-)")) for s in sens],
                       ("input", "dose at low [kg]", "dose at high [kg]", "elasticity d ln dose / d ln x"),
                       numeric_cols=(1, 2, 3))
@@ -139,8 +153,8 @@ def render_adsorption(plan) -> str:
             ("diffusion time tau_D = h**2/D", q(j["diffusion_time_s"], "s")),
             ("residence time in the homogeniser", q(j["residence_time_s"], "s")),
             ("tau_D / residence time", q(j["ratio"], "(-)") + f" (flag above {j['threshold']:g})")]
-    cls = "warn" if j["optimistic"] else "muted"
-    body = f'<p class="{cls}">{esc(j["message"])}</p>' + table(rows)
+    cls = "muted"  # an optimistic verdict is also in the report's top box (plan_warnings)
+    body = f'<p class="{cls}">{esc(unit_text(j["message"]))}</p>' + table(rows)
     return section("adsorption", "Adsorption speed", body)
 
 
