@@ -50,7 +50,9 @@ CONFIDENCE = 0.95
 AICC_MARGIN = 2.0  # the window of AICc units among the models that beat Langmuir
 CHALLENGE_MARGIN = 4.0  # another model must lower AICc by more than this against Langmuir
 MAX_STARTS = 24  # breakpoint starts per model, spread over the gaps (one batched fit)
+SCREEN_POINTS = 100  # the breakpoint search runs on at most this many merged concentrations
 POLISHED = 2  # best distinct starts polished by least_squares
+RIVAL = 1.5  # a further start is polished only if its batched sum of squares is within this factor
 # number of fitted EOS parameters per model, the clean tension and the CMC excluded
 _EXTRA = {"langmuir": 0, "volmer": 0, "frumkin": 1}
 _BOUNDS = {  # on the fitted scale
@@ -444,6 +446,21 @@ def _series(data) -> _Series:
     return _Series(u, w.astype(float), ybar, pure, inv, len(y))
 
 
+def _coarse(series, points=None):
+    """Return the series merged into at most ``points`` (:data:`SCREEN_POINTS`) runs of
+    neighbouring concentrations (weighted means in log c and tension), for the breakpoint search
+    only: the starts it ranks are then polished on the full series."""
+    points = SCREEN_POINTS if points is None else points
+    if len(series.u) <= points:
+        return series
+    groups = np.array_split(np.arange(len(series.u)), points)
+    idx = np.repeat(np.arange(points), [len(g) for g in groups])
+    w = np.bincount(idx, weights=series.w)
+    logu = np.bincount(idx, weights=series.w * np.log10(series.u)) / w
+    ybar = np.bincount(idx, weights=series.w * series.ybar) / w
+    return _Series(10.0 ** logu, w, ybar, 0.0, np.arange(points), int(w.sum()))
+
+
 def _split(X, names, g0_fixed):
     """Return the model parameters as columns (B, 1) of a batch of solutions X (B, p)."""
     col = {nm: X[:, i:i + 1] for i, nm in enumerate(names)}
@@ -483,15 +500,19 @@ class _Residuals:
         self.u, self.sw, self.target = u, sw, target
         self.args = (model, names, g0_fixed, temperature, n)
 
+    def _at(self, x):
+        x = np.array(x, dtype=float)
+        if getattr(self, "_x", None) is None or not np.array_equal(self._x, x):
+            model, names, g0, t, n = self.args  # residual and Jacobian from one evaluation
+            pred, J = _evaluate(self.u, model, names, x[None, :], g0, t, n)
+            self._x, self._r, self._J = x, self.sw * (pred[0] - self.target), self.sw[:, None] * J[0]
+        return self._r, self._J
+
     def __call__(self, x):
-        model, names, g0, t, n = self.args
-        pred, _ = _evaluate(self.u, model, names, np.asarray(x, float)[None, :], g0, t, n, jac=False)
-        return self.sw * (pred[0] - self.target)
+        return self._at(x)[0].copy()
 
     def jac(self, x):
-        model, names, g0, t, n = self.args
-        _, J = _evaluate(self.u, model, names, np.asarray(x, float)[None, :], g0, t, n)
-        return self.sw[:, None] * J[0]
+        return self._at(x)[1].copy()
 
 
 def _residuals_fn(c, y_mn, model, names, g0_fixed, temperature, n):
@@ -674,11 +695,13 @@ def _fit_model(data, model, temperature, n, g0_fixed_mn, starts=None, series=Non
                              f"least 4 (the CMC is a breakpoint between measured concentrations)")
         starts = [_initial(logu, s.ybar, xb, model, names, g0_fixed_mn, temperature, n) for xb in gaps]
     X0 = np.array(starts, dtype=float)
-    X, cost = _lm(_batch_problem(s, model, names, g0_fixed_mn, temperature, n), X0, lo, hi,
-                  iterations=40)
+    X, cost = _lm(_batch_problem(_coarse(s), model, names, g0_fixed_mn, temperature, n), X0, lo, hi,
+                  iterations=30)
     order = [i for i in np.argsort(cost) if np.isfinite(cost[i])]
     picks, seen = [], []
-    for i in order:  # the best few distinct breakpoints
+    for i in order:  # the best few distinct breakpoints, each a real competitor of the best
+        if picks and cost[i] > RIVAL * cost[order[0]]:
+            break
         if all(abs(X[i, -1] - v) > 1e-3 for v in seen):
             picks.append(X[i])
             seen.append(X[i, -1])
@@ -698,6 +721,19 @@ def _fit_model(data, model, temperature, n, g0_fixed_mn, starts=None, series=Non
                                "model with --model")
     return best, names, lo, hi, _residuals_fn(c, data.tension * 1e3, model, names, g0_fixed_mn,
                                               temperature, n)
+
+
+def _frumkin_starts(data, series, langmuir, temperature, n, g0_fixed_mn):
+    """Frumkin starts: the Langmuir solution with beta = 0 and +-1, and a few gap starts."""
+    names = _names("frumkin", g0_fixed_mn is not None)
+    logu = np.log10(series.u)
+    gaps = _candidates(logu)
+    gaps = [gaps[i] for i in sorted(set(np.linspace(0, len(gaps) - 1, min(6, len(gaps))).round().astype(int)))]
+    starts = [_initial(logu, series.ybar, xb, "frumkin", names, g0_fixed_mn, temperature, n) for xb in gaps]
+    at = names.index("interaction")
+    for beta in (0.0, 1.0, -1.0):
+        starts.append(np.insert(np.asarray(langmuir.x, dtype=float), at, beta))
+    return starts
 
 
 def _aicc(rss_mn, npts, m_par):
@@ -1037,7 +1073,11 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
     series = _series(data)
     fits, raw = {}, {}
     for m in models:
-        res, names, lo, hi, fun = _fit_model(data, m, temperature, n, g0_fixed_mn, series=series)
+        starts = None
+        if m == "frumkin" and "langmuir" in fits:  # Frumkin nests Langmuir (beta = 0): start there
+            starts = _frumkin_starts(data, series, fits["langmuir"], temperature, n, g0_fixed_mn)
+        res, names, lo, hi, fun = _fit_model(data, m, temperature, n, g0_fixed_mn, starts=starts,
+                                             series=series)
         fits[m] = _summarise(data, m, res, names, lo, hi, fun, temperature, n, g0_fixed_mn,
                              series=series)
         raw[m] = (names, lo, hi)
