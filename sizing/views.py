@@ -87,20 +87,19 @@ def _title(path: Path, tomllib) -> str:
 
 
 def blank_case() -> dict:
-    """Return a minimal starting case: every required key present, neutral values.
+    """Return a minimal starting case: batch, drops and target filled, the surfactant left to the user.
 
-    The values are placeholders for the engineer to replace (a 1 m**3 O/W batch, 2 um drops,
-    a generic nonionic surfactant); they validate so that every screen can draw.
+    The batch, drop and target values are neutral starting points (a 1 m**3 O/W batch, 2 um
+    drops, coverage 0.8) for the engineer to replace; the surfactant's own properties (molar mass,
+    CMC, saturated surface excess, adsorption constant) are left out, so the case asks for them
+    instead of validating with invented values.
     """
     return {
         "case": {"title": "New case", "system": "emulsion", "continuous": "water"},
         "batch": {"volume": "1 m**3", "dispersed_fraction": 0.2, "temperature": "25 degC",
                   "continuous_density": "1000 kg/m**3", "dispersed_density": "900 kg/m**3"},
         "drops": {"d32": "2 um"},
-        "surfactant": {"name": "surfactant", "molar_mass": "400 g/mol", "active_fraction": 1.0,
-                       "cmc": "0.1 mM", "isotherm": "langmuir", "max_surface_excess": "3 umol/m**2",
-                       "adsorption_constant": "100 m**3/mol", "gibbs_prefactor": 1,
-                       "partition_coefficient": 0.0},
+        "surfactant": {"name": "", "active_fraction": 1.0, "isotherm": "langmuir"},
         "target": {"coverage": 0.8, "margin": 0.15},
     }
 
@@ -135,11 +134,48 @@ def _f(x) -> float:
     return float(np.asarray(x, dtype=float))
 
 
+def _d32_override(case, d32: float | None) -> dict | None:
+    """Return the override that sets the d32 the dose uses: the plant d32 when ``[scaleup]`` sets it."""
+    if d32 is None:
+        return None
+    return {"scaleup.plant_d32" if getattr(case, "scaleup", None) is not None else "drops.d32": d32}
+
+
 def summary(case, d32: float | None = None) -> dict:
-    """Return the solve contract dict of the case (``d32`` [m] overrides the drop size)."""
-    overrides = {"drops.d32": d32} if d32 is not None else None
-    inputs = case_inputs(case, overrides)
+    """Return the solve contract dict of the case (``d32`` [m] overrides the d32 the dose uses).
+
+    With a ``[scaleup]`` section the override replaces the predicted plant d32 (the lab d32 of
+    ``[drops]`` would not move a power-law prediction).
+    """
+    inputs = case_inputs(case, _d32_override(case, d32))
     return solution_json(solve(inputs), case)
+
+
+def d32_info(case) -> dict:
+    """Return where the d32 the dose uses comes from, for every page to say the same.
+
+    Returns
+    -------
+    dict
+        ``scaleup`` (None, ``"power_law"`` or ``"stirred_tank"``), ``lab_d32_m`` [m] (the d32 of
+        ``[drops]``, the size description's own), ``used_d32_m`` [m] (the d32 the area and the dose
+        use: the plant d32 with a scale-up), ``lab_moves_dose`` (False for a power law, whose lab
+        points carry their own sizes), ``note`` (one sentence for a page; None without a scale-up).
+    """
+    inputs = case_inputs(case)
+    lab, used = _f(inputs.lab_d32), _f(inputs.d32)
+    method = case.scaleup.method if getattr(case, "scaleup", None) is not None else None
+    note = None
+    if method == "power_law":
+        note = (f"The scale-up section predicts the plant d32 ({used * 1e6:.3g} µm) from the lab points; the "
+                f"area and the dose use it. The d32 of the Drops and bubbles page ({lab * 1e6:.3g} µm) describes "
+                "the lab drops and does not change the dose; to dose at a d32 of your own, edit the lab points "
+                "or the plant setting, or remove the scale-up section (Scale-up page).")
+    elif method == "stirred_tank":
+        note = (f"The scale-up section turns the lab d32 ({lab * 1e6:.3g} µm, Drops and bubbles page) into a "
+                f"plant d32 ({used * 1e6:.3g} µm) with the vessel rule; the area and the dose use the plant d32.")
+    return {"scaleup": method, "lab_d32_m": lab, "used_d32_m": used,
+            "lab_moves_dose": method != "power_law", "note": note}
 
 
 def unreachable_text(case) -> str | None:
@@ -167,8 +203,7 @@ def dose_split(case, d32: float | None = None) -> list[dict]:
     Rows are ``{"place", "mol", "kg_active", "percent"}``; the places are the continuous phase,
     the dispersed phase, the interface and micelles (named by phase, e.g. ``"water"``).
     """
-    overrides = {"drops.d32": d32} if d32 is not None else None
-    inputs = case_inputs(case, overrides)
+    inputs = case_inputs(case, _d32_override(case, d32))
     sol = solve(inputs)
     split = split_by_phase(sol)
     total = sum(_f(v) for v in split.values()) or 1.0
@@ -505,7 +540,7 @@ def adsorption_view(case) -> dict:
         ``diffusivity`` and ``residence_time`` (as written, or None); with a check, ``check``:
         :func:`sizing.kinetics.adsorption_check` (h [m], tau_D [s], t_res [s], ratio [-], message).
     """
-    d = case.surfactant.diffusivity
+    d = case.surfactant.diffusivity if case.surfactant is not None else None  # blends: not yet modelled
     proc = getattr(case, "process", None)
     t = proc.residence_time if proc is not None else None
     out = {"diffusivity": _value_text(d.raw) if d is not None else None,

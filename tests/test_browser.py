@@ -111,7 +111,7 @@ def run_story(url: str, shot: Path, d32: str = "1.0 um") -> tuple[str, str]:
         box.wait_for()
         box.fill(d32)
         box.press("Enter")
-        page.get_by_test_id("stMetric").filter(has_text="d32").get_by_text(d32.replace(".0 ", " ")).wait_for()
+        page.get_by_test_id("stMetric").filter(has_text="d32").get_by_text(d32.replace(".0 um", " µm")).wait_for()
         nav(page, "Dose balance")
         value = page.get_by_test_id("stMetric").filter(has_text="Product as delivered").first
         value.get_by_test_id("stMetricValue").filter(has_not_text=before).wait_for()

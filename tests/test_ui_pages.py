@@ -8,6 +8,8 @@ engine call on the same case, to the three or four significant figures the page 
 from __future__ import annotations
 
 import json
+import os
+import tempfile
 import tomllib
 from pathlib import Path
 
@@ -19,6 +21,9 @@ from sizing.case import dumps_case, load_case, loads_case, parse_case
 from sizing.cli import main as cli_main
 from sizing.errors import InputError
 from sizing.model import solve_case
+
+# the workbench saves each session's case on disk: keep the tests' saves out of the home folder
+os.environ.setdefault("SIZING_WORKSPACES", tempfile.mkdtemp(prefix="sizing-ws-test-"))
 
 ROOT = Path(__file__).resolve().parents[1]
 PAGES = ROOT / "ui" / "screens"
@@ -95,14 +100,14 @@ def test_what_if_slider_matches_a_solve_at_that_d32():
     slider.set_value(pick)
     run(at)
     sol = solve_case(demo_case(), overrides={"drops.d32": pick * 1e-6})
-    assert number(metric(at, f"Product at d32 = {pick:g} um")) == pytest.approx(float(sol.kg_product), rel=5e-3)
+    assert number(metric(at, f"Product at d32 = {pick:g} µm")) == pytest.approx(float(sol.kg_product), rel=5e-3)
 
 
 def test_charts_carry_units_and_log_axes():
     at = run(page("dose"))
     specs = [json.loads(c.proto.spec) for c in at.get("vega_lite_chart")]
-    text = json.dumps(specs)
-    assert "[kg]" in text and "[um]" in text and '"type": "log"' in text
+    text = json.dumps(specs, ensure_ascii=False)
+    assert "[kg]" in text and "[µm]" in text and '"type": "log"' in text
     assert "tooltip" in text
 
 

@@ -7,6 +7,8 @@ so the relative tolerance is 5e-3).
 
 from __future__ import annotations
 
+import os
+import tempfile
 from pathlib import Path
 
 import pytest
@@ -16,6 +18,9 @@ from sizing import views
 from sizing.case import parse_case
 from sizing.planning.kinetics import adsorption_check
 from sizing.planning.uncertainty import monte_carlo
+
+# the workbench saves each session's case on disk: keep the tests' saves out of the home folder
+os.environ.setdefault("SIZING_WORKSPACES", tempfile.mkdtemp(prefix="sizing-ws-test-"))
 
 PAGE = Path(__file__).resolve().parents[1] / "ui" / "screens" / "scaleup.py"
 SAMPLES = 20_000  # fewer draws than the default keep the test quick; same seed as the page

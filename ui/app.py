@@ -24,5 +24,13 @@ pages = [
 ]
 page = st.navigation(pages)
 state.ensure_case()
+if st.session_state.get("_page") != page.url_path:
+    # a field widget of the last page would come back empty on this one (Streamlit forgets it):
+    # drop them all, each field is seeded again from the case
+    state.forget_widgets()
+    st.session_state["_page"] = page.url_path
 state.sidebar_status()
-page.run()
+try:
+    page.run()
+finally:  # also after st.stop() and st.rerun(): the working case is saved after every run
+    state.save_workspace()

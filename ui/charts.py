@@ -63,21 +63,21 @@ def _rule(value: float, label: str, color: str, axis: str = "x", row: int = 0,
     return line + text
 
 
-def size_distribution(curve: dict) -> alt.LayerChart:
-    """Volume density against log size with d32 and dv50 marked."""
+def size_distribution(curve: dict, lab: bool = False) -> alt.LayerChart:
+    """Volume density against log size with d32 and dv50 marked (``lab``: the d32 is the lab's)."""
     df = pd.DataFrame({"d_um": [d * UM for d in curve["d_m"]], "q3": curve["q3"]})
     base = alt.Chart(df).mark_area(
         line={"color": "#1f5f8b"}, color="#9ecae1", opacity=0.6,
         interpolate="step-after" if curve["kind"] == "table" else "monotone",
     ).encode(
-        x=alt.X("d_um:Q", scale=alt.Scale(type="log"), title="drop or bubble diameter d [um]"),
+        x=alt.X("d_um:Q", scale=alt.Scale(type="log"), title="drop or bubble diameter d [µm]"),
         y=alt.Y("q3:Q", title="volume density q3 per unit ln d [-]"),
-        tooltip=[alt.Tooltip("d_um:Q", title="d [um]", format=".3g"),
+        tooltip=[alt.Tooltip("d_um:Q", title="d [µm]", format=".3g"),
                  alt.Tooltip("q3:Q", title="q3 [-]", format=".3g")],
     )
-    layers = base + _rule(curve["d32_m"] * UM, f"d32 = {sig(curve['d32_m'] * UM, 3)} um", "#d62728")
+    layers = base + _rule(curve["d32_m"] * UM, f"{'lab ' if lab else ''}d32 = {sig(curve['d32_m'] * UM, 3)} µm", "#d62728")
     if curve.get("dv50_m"):
-        layers = layers + _rule(curve["dv50_m"] * UM, f"dv50 = {sig(curve['dv50_m'] * UM, 3)} um", "#2ca02c",
+        layers = layers + _rule(curve["dv50_m"] * UM, f"dv50 = {sig(curve['dv50_m'] * UM, 3)} µm", "#2ca02c",
                                 row=1)
     return layers.properties(height=300)
 
@@ -121,17 +121,18 @@ def dose_vs_d32(curve: dict, whatif_d32: float | None = None, whatif_kg: float |
     df = pd.DataFrame({"d32_um": [d * UM for d in curve["d32_m"]], "kg_product": curve["kg_product"]})
     df = df[df["kg_product"].notna()]
     line = alt.Chart(df).mark_line(color="#1f5f8b", strokeWidth=2).encode(
-        x=alt.X("d32_um:Q", scale=alt.Scale(type="log"), title="Sauter mean diameter d32 [um]"),
+        x=alt.X("d32_um:Q", scale=alt.Scale(type="log"), title="Sauter mean diameter d32 [µm]"),
         y=alt.Y("kg_product:Q", scale=alt.Scale(type="log"), title="dose of product per batch [kg]"),
-        tooltip=[alt.Tooltip("d32_um:Q", title="d32 [um]", format=".3g"),
+        tooltip=[alt.Tooltip("d32_um:Q", title="d32 [µm]", format=".3g"),
                  alt.Tooltip("kg_product:Q", title="product [kg]", format=".4g")],
     )
-    layers = line + _rule(curve["case_d32_m"] * UM, f"case {sig(curve['case_d32_m'] * UM, 3)} um", "#555555")
+    label = curve.get("case_label", "case")
+    layers = line + _rule(curve["case_d32_m"] * UM, f"{label} {sig(curve['case_d32_m'] * UM, 3)} µm", "#555555")
     if whatif_d32 is not None and whatif_kg is not None and math.isfinite(whatif_kg):
         pt = pd.DataFrame({"d32_um": [whatif_d32 * UM], "kg_product": [whatif_kg]})
         layers = layers + alt.Chart(pt).mark_point(color="#ff7f0e", size=120, filled=True).encode(
             x="d32_um:Q", y="kg_product:Q",
-            tooltip=[alt.Tooltip("d32_um:Q", title="what-if d32 [um]", format=".3g"),
+            tooltip=[alt.Tooltip("d32_um:Q", title="what-if d32 [µm]", format=".3g"),
                      alt.Tooltip("kg_product:Q", title="product [kg]", format=".4g")])
     return layers.properties(height=320)
 
@@ -181,11 +182,11 @@ def d32_vs_dose(curve: dict, dose_kg: float | None = None) -> alt.LayerChart:
     df = df[df["d32_um"].map(math.isfinite)]
     line = alt.Chart(df).mark_line(strokeWidth=2).encode(
         x=alt.X("kg:Q", scale=alt.Scale(type="log"), title="dose of product per batch [kg]"),
-        y=alt.Y("d32_um:Q", scale=alt.Scale(type="log"), title="d32 reached [um]"),
+        y=alt.Y("d32_um:Q", scale=alt.Scale(type="log"), title="d32 reached [µm]"),
         color=alt.Color("limited_by:N", title="limited by",
                         scale=alt.Scale(domain=["surfactant", "homogeniser"], range=["#d62728", "#1f5f8b"])),
         tooltip=[alt.Tooltip("kg:Q", title="product [kg]", format=".4g"),
-                 alt.Tooltip("d32_um:Q", title="d32 [um]", format=".3g"), alt.Tooltip("limited_by:N")])
+                 alt.Tooltip("d32_um:Q", title="d32 [µm]", format=".3g"), alt.Tooltip("limited_by:N")])
     layers = line + _rule(curve["knee_kg_product"], f"knee {sig(curve['knee_kg_product'], 3)} kg", "#555555")
     if dose_kg is not None and math.isfinite(dose_kg):
         layers = layers + _rule(dose_kg, f"dose for the target {sig(dose_kg, 3)} kg", "#2ca02c", row=1)
@@ -234,7 +235,7 @@ def adsorption_panel(view: dict, where=None) -> None:
                    "ceiling (see the Dose balance page).", icon=":material/info:")
         return
     j = view["check"]
-    tiles([("Adsorption depth h", num(j["depth_m"] * UM, "um"), "h = Gamma / c: the depth of continuous phase "
+    tiles([("Adsorption depth h", num(j["depth_m"] * UM, "µm"), "h = Gamma / c: the depth of continuous phase "
             "that holds as much surfactant as the interface carries"),
            ("Diffusion time tau_D", num(j["diffusion_time_s"], "s"),
             f"tau_D = h² / D; Ward-Tordai short-time estimate {num(j['ward_tordai_time_s'], 's')}"),
@@ -242,7 +243,7 @@ def adsorption_panel(view: dict, where=None) -> None:
            ("tau_D / t_res", num(j["ratio"], "(-)"), f"flagged above {j['threshold']:g}")],
           per_row=4, where=where)
     figures = (f"free monomer {num(j['free_concentration_mol_m3'], 'mM')}, surface excess "
-               f"{num(j['surface_excess_mol_m2'] * 1e6, 'umol/m²')}, D {num(j['diffusivity_m2_s'], 'm²/s')}")
+               f"{num(j['surface_excess_mol_m2'] * 1e6, 'µmol/m²')}, D {num(j['diffusivity_m2_s'], 'm²/s')}")
     if status == "flagged":
         where.warning(f"**Adsorption may be too slow: the equilibrium dose is optimistic.** tau_D / t_res = "
                       f"{num(j['ratio'], '')} is above {j['threshold']:g}, so new interface is not covered while "

@@ -10,10 +10,13 @@ the command line; its problem lines ``"path: message"`` are shown under the matc
 from __future__ import annotations
 
 import hashlib
+import json
 import math
+import os
 import re
+import secrets
 import shutil
-import tempfile
+import time
 from pathlib import Path
 
 import streamlit as st
@@ -21,6 +24,7 @@ import streamlit as st
 from sizing import views
 from sizing.case import dumps_case, parse_case
 from sizing.errors import InputError
+from sizing.files import write_atomic
 from sizing.texts import CAUTIONS_BRIEF
 
 CASE = "case_dict"
@@ -29,6 +33,8 @@ SOURCE = "case_source"
 VERSION = "files_version"
 STASH = "case_stash"  # values of fields hidden by a switch (restored when switched back)
 PREFIX = "f:"
+UNDO = "case_undo"  # the case a replacement put aside: {"case", "source", "stash", "loaded"}
+LOADED = "case_loaded"  # the case text as loaded (to tell whether it has been edited since)
 OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty", "process")
 
 CAUTIONS = CAUTIONS_BRIEF  # one home for the texts: sizing.texts
@@ -38,13 +44,148 @@ CAUTIONS = CAUTIONS_BRIEF  # one home for the texts: sizing.texts
 # the case in the session
 
 
+# The working case is kept on this machine, one folder per browser workspace, named by a random
+# token in the page address (``?ws=...``): a reload or a new tab with the same address finds it.
+
+WS_PARAM = "ws"
+_TOKEN = re.compile(r"^[A-Za-z0-9_-]{16,64}$")
+SAVED = "workspace.json"
+LAB_SLOTS = ("tension_file", "depletion_file", "partition_file")  # uploaded lab CSVs of the fits
+
+
+def workspace_root() -> Path:
+    """Return the folder holding the saved workspaces (``SIZING_WORKSPACES`` overrides it)."""
+    env = os.environ.get("SIZING_WORKSPACES")
+    if env:
+        return Path(env)
+    state_home = os.environ.get("XDG_STATE_HOME") or str(Path.home() / ".local" / "state")
+    return Path(state_home) / "sizing" / "workspaces"
+
+
+def workspace_token() -> str:
+    """Return this session's workspace token, taken from the address or made new; keep it in the address."""
+    tok = st.session_state.get("ws_token")
+    if tok is None:
+        given = st.query_params.get(WS_PARAM)
+        tok = given if isinstance(given, str) and _TOKEN.match(given) else secrets.token_urlsafe(18)
+        st.session_state["ws_token"] = tok
+    if st.query_params.get(WS_PARAM) != tok:
+        st.query_params[WS_PARAM] = tok
+    return tok
+
+
+def workspace_dir() -> Path:
+    """Return this session's workspace folder (created on first use, private to the user)."""
+    folder = workspace_root() / workspace_token()
+    folder.mkdir(parents=True, exist_ok=True, mode=0o700)
+    return folder
+
+
 def work_dir() -> Path:
-    """Return this session's folder for uploaded files (created on first use)."""
-    p = st.session_state.get("work_dir")
-    if p is None or not Path(p).is_dir():
-        p = tempfile.mkdtemp(prefix="sizing-ui-")
-        st.session_state["work_dir"] = p
-    return Path(p)
+    """Return this session's folder for the case's files (uploads, copies of demo files)."""
+    folder = workspace_dir() / "files"
+    folder.mkdir(exist_ok=True, mode=0o700)
+    return folder
+
+
+def scrub(text: str) -> str:
+    """Return a message without this server's folder names (the workspace is 'the case folder')."""
+    text = str(text)
+    for folder in {str(work_dir()), str(workspace_root()), str(st.session_state.get(BASE, ""))} - {""}:
+        text = text.replace(folder + os.sep, "").replace(folder, "the case folder")
+    return text
+
+
+def _snapshot() -> dict:
+    prev = st.session_state.get(UNDO)
+    return {"version": 1, "case": st.session_state.get(CASE), "source": st.session_state.get(SOURCE),
+            "stash": st.session_state.get(STASH, {}), "loaded": st.session_state.get(LOADED),
+            "undo": prev,
+            "lab_files": {k: Path(st.session_state[k]).name for k in LAB_SLOTS if st.session_state.get(k)}}
+
+
+def save_workspace() -> None:
+    """Write the working case (with its undo copy and the names of uploaded lab files) to disk.
+
+    Called after every run of the app; writes only when something changed.
+    """
+    if CASE not in st.session_state:
+        return
+    try:
+        body = json.dumps(_snapshot(), sort_keys=True, default=str)
+    except (TypeError, ValueError):  # a value JSON cannot hold: keep the last good save
+        return
+    if st.session_state.get("_saved_body") == body:
+        return
+    stamp = time.strftime("%Y-%m-%d %H:%M:%S UTC", time.gmtime())
+    data = json.loads(body)
+    data["saved_at"] = stamp
+    try:
+        write_atomic(workspace_dir() / SAVED, json.dumps(data, indent=1, sort_keys=True))
+    except OSError:  # a full disk or a read-only home: the session goes on, unsaved
+        return
+    st.session_state["_saved_body"] = body
+    st.session_state["saved_at"] = stamp
+
+
+def _read_saved(folder: Path) -> dict | None:
+    try:
+        data = json.loads((folder / SAVED).read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return None
+    return data if isinstance(data, dict) and isinstance(data.get("case"), dict) else None
+
+
+def restore_workspace() -> bool:
+    """Load the saved working case of this session's token; return False when there is none."""
+    data = _read_saved(workspace_dir())
+    if data is None:
+        return False
+    st.session_state[CASE] = data["case"]
+    st.session_state[SOURCE] = str(data.get("source") or "restored case")
+    st.session_state[STASH] = data.get("stash") or {}
+    st.session_state[LOADED] = data.get("loaded")
+    st.session_state[BASE] = str(work_dir())
+    if isinstance(data.get("undo"), dict):
+        st.session_state[UNDO] = data["undo"]
+    for k, name in (data.get("lab_files") or {}).items():
+        if k in LAB_SLOTS and isinstance(name, str) and (work_dir() / Path(name).name).is_file():
+            st.session_state[k] = str(work_dir() / Path(name).name)
+    st.session_state["restored_at"] = data.get("saved_at", "earlier")
+    st.session_state["_saved_body"] = json.dumps(_snapshot(), sort_keys=True, default=str)
+    return True
+
+
+def recent_workspaces(limit: int = 8) -> list[dict]:
+    """Return the other workspaces saved on this machine, newest first: token, title, saved_at."""
+    root = workspace_root()
+    mine = st.session_state.get("ws_token")
+    out = []
+    try:
+        folders = [p for p in root.iterdir() if p.is_dir() and _TOKEN.match(p.name) and p.name != mine]
+    except OSError:
+        return []
+    folders.sort(key=lambda p: (p / SAVED).stat().st_mtime if (p / SAVED).is_file() else 0, reverse=True)
+    for p in folders[:limit]:
+        data = _read_saved(p)
+        if data:
+            out.append({"token": p.name, "title": str(data["case"].get("case", {}).get("title", "untitled")),
+                        "saved_at": str(data.get("saved_at", ""))})
+    return out
+
+
+def switch_workspace(token: str) -> None:
+    """Adopt another saved workspace: its token goes into the address and its case is loaded."""
+    if not _TOKEN.match(token):
+        return
+    save_workspace()
+    for k in [k for k in st.session_state if isinstance(k, str) and (k.startswith(PREFIX) or k in (
+            CASE, UNDO, "_check", "_saved_body", "restored_at", *LAB_SLOTS))]:
+        del st.session_state[k]
+    st.session_state["ws_token"] = token
+    st.query_params[WS_PARAM] = token
+    restore_workspace()
+    st.session_state[VERSION] = st.session_state.get(VERSION, 0) + 1
 
 
 def _copy_referenced(data: dict, source_dir: Path | None) -> None:
@@ -66,23 +207,60 @@ def _copy_referenced(data: dict, source_dir: Path | None) -> None:
 
 
 def set_case(data: dict, source: str, source_dir: Path | None = None) -> None:
-    """Replace the case being edited; clear the field widgets so they show the new values."""
+    """Replace the case being edited (the old one is kept for :func:`undo_replace`).
+
+    The field widgets are cleared so that they show the new values.
+    """
     old = st.session_state.get(CASE)
     if old is not None:
-        st.session_state["previous_case"] = old
+        st.session_state[UNDO] = {"case": old, "source": st.session_state.get(SOURCE),
+                                  "stash": st.session_state.get(STASH, {}),
+                                  "loaded": st.session_state.get(LOADED)}
     _copy_referenced(data, source_dir)
-    st.session_state[CASE] = views.case_copy(data)
+    _install(views.case_copy(data), source, {})
+    st.session_state[LOADED] = dumps_case(data)
+
+
+def _install(data: dict, source: str, stash: dict) -> None:
+    st.session_state[CASE] = data
     st.session_state[BASE] = str(work_dir())
     st.session_state[SOURCE] = source
-    st.session_state[STASH] = {}
+    st.session_state[STASH] = stash
     st.session_state[VERSION] = st.session_state.get(VERSION, 0) + 1
+    st.session_state.pop("restored_at", None)
     for key in [k for k in st.session_state if isinstance(k, str) and k.startswith(PREFIX)]:
         del st.session_state[key]
 
 
+def forget_widgets() -> None:
+    """Drop every field widget's value; each field is seeded again from the case when drawn."""
+    for key in [k for k in st.session_state if isinstance(k, str) and k.startswith(PREFIX)]:
+        del st.session_state[key]
+
+
+def undo_replace() -> bool:
+    """Bring back the case the last replacement put aside (the current one is put aside instead)."""
+    prev = st.session_state.get(UNDO)
+    if not isinstance(prev, dict) or not isinstance(prev.get("case"), dict):
+        return False
+    st.session_state[UNDO] = {"case": st.session_state.get(CASE), "source": st.session_state.get(SOURCE),
+                              "stash": st.session_state.get(STASH, {}), "loaded": st.session_state.get(LOADED)}
+    _install(prev["case"], str(prev.get("source") or "earlier case"), prev.get("stash") or {})
+    st.session_state[LOADED] = prev.get("loaded")
+    return True
+
+
+def edited_since_loaded() -> bool:
+    """Return True when the case differs from what was loaded (replacing it would lose edits)."""
+    try:
+        return dumps_case(ensure_case()) != st.session_state.get(LOADED)
+    except Exception:  # a value TOML cannot hold: treat as edited
+        return True
+
+
 def ensure_case() -> dict:
-    """Return the case dict, loading the built-in demo when the session has none."""
-    if CASE not in st.session_state:
+    """Return the case dict: the session's, else the saved one of this workspace, else the demo."""
+    if CASE not in st.session_state and not restore_workspace():
         data, folder = views.load_demo()
         set_case(data, "demo case", folder)
     st.session_state.setdefault(BASE, str(work_dir()))
@@ -165,9 +343,9 @@ def check() -> dict:
         summary = views.summary(case)
         problems: list[str] = []
     except InputError as exc:
-        problems = list(exc.problems)
+        problems = [scrub(line) for line in exc.problems]
         if summary is None and case is not None and not problems:
-            problems = [str(exc)]
+            problems = [scrub(str(exc))]
     result = {"key": key, "case": case if not problems else None, "problems": problems,
               "by_field": views.problems_by_field(problems), "summary": summary if not problems else None,
               "toml": text, "base": base}
@@ -306,6 +484,12 @@ def sidebar_status() -> None:
             st.error(f"{len(result['problems'])} problem(s) in the case", icon=":material/error:")
         else:
             st.success("case valid", icon=":material/check_circle:")
+            info = view("d32_info")
+            if info["scaleup"]:
+                st.caption(f"d32 for the dose: **plant {info['used_d32_m'] * 1e6:.3g} µm** (from the scale-up); "
+                           f"lab {info['lab_d32_m'] * 1e6:.3g} µm")
+            else:
+                st.caption(f"d32 for the dose: {info['used_d32_m'] * 1e6:.3g} µm")
         with st.expander("Cautions", expanded=False):
             for line in CAUTIONS:
                 st.caption(line)

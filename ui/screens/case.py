@@ -14,20 +14,68 @@ st.title("Case")
 st.caption("Build the case: every value carries its unit as text (for example '2.1 m**3', '60 degC'). "
            "Checks are the same as the command line's; a problem shows under its field.")
 
+PENDING = "pending_replace"  # ("demo", index) or ("blank", None) waiting for a yes
+
+
+def _replace(want) -> None:
+    demos = views.demo_cases()
+    if want[0] == "blank":
+        state.set_case(views.blank_case(), "blank case")
+    else:
+        data, folder = views.load_demo(demos[want[1]][1])
+        state.set_case(data, "demo case" if want[1] == 0 else f"demo {demos[want[1]][1].name}", folder)
+    st.session_state["just_replaced"] = True
+
+
 # ---- where the case comes from ---------------------------------------------------------------
+if st.session_state.get("restored_at"):
+    r1, r2 = st.columns([3, 1])
+    r1.info(f"**Restored your working case** (saved {st.session_state['restored_at']} on this computer, found "
+            "by the address of this page). Keep working, or start over.", icon=":material/restore:")
+    if r2.button("Start over with the demo", key="btn_start_over"):
+        _replace(("demo", 0))
+        st.rerun()
+undo = st.session_state.get(state.UNDO)
+if st.session_state.get("just_replaced") and isinstance(undo, dict):
+    u1, u2 = st.columns([3, 1])
+    old_title = (undo.get("case") or {}).get("case", {}).get("title", "untitled")
+    u1.success(f"Case replaced; the previous one (**{state.md_escape(old_title)}**) is kept aside.",
+               icon=":material/swap_horiz:")
+    if u2.button("Undo the replacement", key="btn_undo_replace", icon=":material/undo:"):
+        state.undo_replace()
+        st.session_state.pop("just_replaced", None)
+        st.rerun()
 with st.container(border=True):
     c1, c2 = st.columns([2.6, 2])
     demos = views.demo_cases()
     pick = c1.selectbox("Demo case", range(len(demos)), format_func=lambda i: demos[i][0], key="sel_demo",
                         help="invented scenarios shipped with the tool (cases_demo/ in a source checkout)")
     b1, b2 = c1.columns(2)
+    want = None
     if b1.button("Load the demo case", key="btn_demo", icon=":material/science:"):
-        data, folder = views.load_demo(demos[pick][1])
-        state.set_case(data, "demo case" if pick == 0 else f"demo {demos[pick][1].name}", folder)
-        st.rerun()
+        want = ("demo", pick)
     if b2.button("Start a blank case", key="btn_blank", icon=":material/note_add:"):
-        state.set_case(views.blank_case(), "blank case")
-        st.rerun()
+        want = ("blank", None)
+    if want is not None:
+        if state.edited_since_loaded():  # edits would be lost: ask first
+            st.session_state[PENDING] = want
+        else:
+            _replace(want)
+            st.rerun()
+    pending = st.session_state.get(PENDING)
+    if pending:
+        what = "a blank case" if pending[0] == "blank" else f"the demo '{demos[pending[1]][0]}'"
+        c1.warning(f"Replace the case being edited (**{state.md_escape(state.get('case.title') or 'untitled')}**, "
+                   f"with your edits) by {state.md_escape(what)}? You can undo this afterwards.",
+                   icon=":material/help:")
+        k1, k2 = c1.columns(2)
+        if k1.button("Replace the case", key="btn_confirm_replace", type="primary"):
+            st.session_state.pop(PENDING, None)
+            _replace(pending)
+            st.rerun()
+        if k2.button("Keep my case", key="btn_cancel_replace"):
+            st.session_state.pop(PENDING, None)
+            st.rerun()
     up = c2.file_uploader("Open a case file (.toml, at most 5 MB)", type=["toml"], key="up_case")
     if state.new_upload(up, "case"):
         try:
@@ -37,11 +85,20 @@ with st.container(border=True):
         else:
             st.session_state.pop("upload_error", None)
             state.set_case(data, f"uploaded {up.name}")
+            st.session_state["just_replaced"] = True
             st.rerun()
     if st.session_state.get("upload_error"):
         st.error(st.session_state["upload_error"] + " — the case being edited is unchanged.",
                  icon=":material/error:")
     st.caption(f"Editing: **{st.session_state.get(state.SOURCE)}**")
+    others = state.recent_workspaces()
+    if others:
+        with c2.expander("Working cases saved earlier on this computer"):
+            pick_ws = st.selectbox("Saved working case", range(len(others)), key="sel_workspace",
+                                   format_func=lambda i: f"{others[i]['title']} (saved {others[i]['saved_at']})")
+            if st.button("Open it (this one stays saved)", key="btn_open_workspace"):
+                state.switch_workspace(others[pick_ws]["token"])
+                st.rerun()
 
 result = state.check()
 if result["by_field"].get(""):

@@ -15,7 +15,9 @@ result = state.needs_valid_case()
 s = result["summary"]
 case = result["case"]
 target = s["target"]
-currency = case.surfactant.currency
+currency = case.currency
+d32 = state.view("d32_info")  # where the d32 the dose uses comes from (lab or plant)
+plant = d32["scaleup"] is not None
 
 # ---- target and result ---------------------------------------------------------------------
 target_text = {
@@ -23,10 +25,18 @@ target_text = {
     "tension": f"tension {num(target['value_si'] * MN, 'mN/m')}",
     "free_concentration": f"free concentration {num(target['value_si'], 'mM')}",
 }[target["kind"]]
-st.caption(f"Target: **{target_text}** · d32 {num(s['d32_m'] * UM, 'um')} · "
+d32_text = (f"plant d32 {num(s['d32_m'] * UM, 'µm')} (scale-up; lab d32 {num(d32['lab_d32_m'] * UM, 'µm')})"
+            if plant else f"d32 {num(s['d32_m'] * UM, 'µm')}")
+st.caption(f"Target: **{target_text}** · {d32_text} · "
            f"area {num(s['interfacial_area_m2'], 'm²')} · safety margin {num(target['margin'] * 100, '%', 3)} "
            "(applied on the Plan page)")
 
+if plant:
+    st.info("**Plant d32.** " + d32["note"], icon=":material/trending_up:")
+elif case.drops.distribution in (None, "d32"):
+    with st.container(border=True):
+        state.field("drops.d32", "Sauter mean diameter d32 of the case [length, e.g. 2.4 µm]",
+                    help="the same field as on the Drops and bubbles page; the dose below follows it")
 for w in s.get("warnings", []):
     st.warning("**Check:** " + state.md_escape(w), icon=":material/warning:")
 if not s["feasible"]:
@@ -82,21 +92,30 @@ if st.session_state.get("whatif_d32") not in options:
     st.session_state["whatif_d32"] = default
 c1, c2 = st.columns([2, 1], gap="large")
 with c2:
-    pick = st.select_slider("What-if d32 [um]", options=options, key="whatif_d32",
+    pick = st.select_slider("What-if " + ("plant " if plant else "") + "d32 [µm]", options=options, key="whatif_d32",
                             format_func=lambda v: f"{v:g}")
-    what = state.view("summary", d32=pick / UM)
+    own = pick == default  # the case's own d32 (rounded for the slider): no change to report
+    what = s if own else state.view("summary", d32=pick / UM)
     if what["feasible"]:
         kg = what["dose"]["kg_product"]
         delta = None
-        if dose is not None and abs(kg - dose["kg_product"]) > 1e-9 * abs(kg):
+        if not own and dose is not None and abs(kg - dose["kg_product"]) > 1e-9 * abs(kg):
             delta = f"{kg - dose['kg_product']:+.3g} kg against the case"
-        st.metric(f"Product at d32 = {pick:g} um", num(kg, "kg"), delta=delta, delta_color="inverse")
+        st.metric(f"Product at d32 = {pick:g} µm", num(kg, "kg"), delta=delta, delta_color="inverse")
         st.caption(f"area {num(what['interfacial_area_m2'], 'm²')}, {num(what['dose']['wt_percent'], 'wt%')} "
-                   "of the batch")
+                   "of the batch" + (" (the case's own d32)" if own else ""))
     else:
         kg = math.nan
-        st.metric(f"Product at d32 = {pick:g} um", "not reachable")
+        st.metric(f"Product at d32 = {pick:g} µm", "not reachable")
+    if not own and not plant and case.drops.distribution in (None, "d32"):
+        if st.button(f"Use d32 = {pick:g} µm in the case", key="btn_whatif_apply"):
+            state.put("drops.d32", f"{pick:g} um")
+            st.session_state.pop(state.PREFIX + "drops.d32", None)
+            st.rerun()
+    elif not own and plant:
+        st.caption("What-if only: the plant d32 comes from the scale-up section (Scale-up page).")
 with c1:
-    charts.draw("dose_vs_d32", curve, pick / UM, kg, key="chart_d32")
+    charts.draw("dose_vs_d32", {**curve, "case_label": "plant" if plant else "case"}, pick / UM, kg,
+                key="chart_d32")
 st.caption("Smaller drops mean more interface to cover: the dose climbs towards the interface term as d32 "
            "falls. Equilibrium estimate; confirm by trial.")

@@ -36,10 +36,17 @@ with left:
             st.session_state.pop(state.PREFIX + f"drops.{k}", None)
         st.rerun()
     state.show_errors("drops")
+    lab = isinstance(state.ensure_case().get("scaleup"), dict)  # a [scaleup] section sets the plant d32
+    if lab:
+        info = state.view("d32_info") if state.check()["case"] is not None else None
+        st.info("**Lab drops.** " + (info["note"] if info else
+                "The case has a scale-up section: the dose uses the plant d32 it predicts, not this one."),
+                icon=":material/science:")
     if kind == "d32":
-        field("drops.d32", "Sauter mean diameter d32 [length, e.g. 2.4 um]")
+        field("drops.d32", ("Lab d32 (the lab recipe's drops)" if lab else "Sauter mean diameter d32")
+              + " [length, e.g. 2.4 µm]")
     elif kind == "lognormal":
-        field("drops.median", "Median diameter [length, e.g. 1.5 um]")
+        field("drops.median", "Median diameter [length, e.g. 1.5 µm]")
         field("drops.gsd", "Geometric standard deviation [-] (> 1)", kind="number")
         field("drops.basis", "Basis of the median", kind="choice", options=["number", "volume"],
               help="number: count median diameter; volume: volume (mass) median diameter")
@@ -73,12 +80,17 @@ with right:
         st.info("Fix the problems in the case to see the distribution and the area.", icon=":material/info:")
         st.stop()
     s = result["summary"]
-    size = s["size_m"]
-    charts.tiles([
-        ("d32", num(s["d32_m"] * UM, "um"), "Sauter mean diameter: sum of d³ over sum of d²"),
-        ("dv50", num(size.get("dv50") and size["dv50"] * UM, "um"), "volume median diameter"),
-        ("d43", num(size.get("d43") and size["d43"] * UM, "um"), "volume-weighted mean diameter"),
-        ("d10", num(size.get("d10") and size["d10"] * UM, "um"), "number mean diameter"),
+    size = s["size_m"]  # the drops this page describes (the lab's when [scaleup] sets the plant d32)
+    lab_d32 = size.get("d32") or s["d32_m"]
+    d32_tiles = [("Lab d32" if lab else "d32", num(lab_d32 * UM, "µm"),
+                  "Sauter mean diameter of the size description: sum of d³ over sum of d²")]
+    if lab:
+        d32_tiles.append(("Plant d32 (used for the dose)", num(s["d32_m"] * UM, "µm"),
+                          "predicted by the scale-up section (Scale-up page); the area below uses it"))
+    charts.tiles(d32_tiles + [
+        ("dv50", num(size.get("dv50") and size["dv50"] * UM, "µm"), "volume median diameter"),
+        ("d43", num(size.get("d43") and size["d43"] * UM, "µm"), "volume-weighted mean diameter"),
+        ("d10", num(size.get("d10") and size["d10"] * UM, "µm"), "number mean diameter"),
         ("span", num(size.get("span"), "(-)"), "(dv90 - dv10) / dv50 on the volume distribution"),
     ])
     try:
@@ -90,7 +102,7 @@ with right:
         st.info("d32 is given directly: there is no distribution to plot. Choose a log-normal, RRSB or "
                 "measured description to see one.", icon=":material/info:")
     else:
-        charts.draw("size_distribution", curve, key="chart_sizes")
+        charts.draw("size_distribution", curve, lab, key="chart_sizes")
     a = s["area"]
     st.subheader("Interfacial area")
     charts.tiles([
@@ -100,4 +112,5 @@ with right:
         ("per kg of dispersed phase", num(a.get("per_kg_dispersed_m2_kg"), "m²/kg")),
     ], per_row=2)
     st.caption(f"A = s · 6 V_d / d32 with V_d = {num(s['phases']['dispersed_volume_m3'], 'm³')} of "
-               f"{s['phases']['dispersed']} drops or bubbles.")
+               f"{s['phases']['dispersed']} drops or bubbles"
+               + (f" and the plant d32 {num(s['d32_m'] * UM, 'µm')} of the scale-up." if lab else "."))

@@ -28,7 +28,7 @@ except InputError as exc:
 if plan is not None:
     r = plan["result"]
     rec = r["recommendation"]
-    name = result["case"].surfactant.name
+    name = result["case"].active_name
     for w in r.get("warnings", []):
         st.warning("**Check:** " + state.md_escape(w), icon=":material/warning:")
     if not rec["reaches_target"]:
@@ -56,6 +56,12 @@ if plan is not None:
             f"free monomer {num(rec['free_concentration_at_charge_mol_m3'], 'mM')}"
             + (f", tension {num(rec['tension_at_charge_N_m'] * MN, 'mN/m')}" if rec["tension_at_charge_N_m"] else "")
             + ".")
+
+    info = state.view("d32_info")
+    if info["scaleup"]:
+        st.info(f"**Dosed for the plant d32 {num(info['used_d32_m'] * 1e6, 'µm')}** predicted by the scale-up "
+                f"section (lab d32 {num(info['lab_d32_m'] * 1e6, 'µm')}); see the Scale-up page for its band.",
+                icon=":material/trending_up:")
 
     st.subheader("Trial matrix")
     rows = [{"level [× charge]": f"{t['level']:g}", "product [kg/batch]": num(t["kg_product"], "", 4),

@@ -20,15 +20,52 @@ TEMPLATE = {"method": "power_law", "variable": "pressure",
             "plant": "500 bar"}
 VARIABLE_UNIT = {"pressure": "e.g. 500 bar", "energy_density": "e.g. 5e7 J/m**3", "tip_speed": "e.g. 12 m/s"}
 
+DRAFT = "scaleup_draft"  # a scale-up being written: not part of the case until confirmed
+
+
+def _draft_form(draft: dict) -> None:
+    """Edit a new power-law section with EXAMPLE points; it enters the case only when confirmed."""
+    st.warning("**Example values, not yet used.** The points and the plant setting below are examples: "
+               "replace them with your lab's measurements, then press *Use these points in the case*. "
+               "Until then the dose uses the d32 of the Drops and bubbles page.", icon=":material/edit_note:")
+    var_names = list(VARIABLE_UNIT)
+    with st.form("form_scaleup_draft"):
+        d1, d2 = st.columns(2)
+        var = d1.selectbox("Process variable", var_names, index=var_names.index(draft["variable"]),
+                           key="draft_variable")
+        plant_x = d2.text_input(f"Plant setting [{VARIABLE_UNIT[var]}]", value=str(draft["plant"]), key="draft_plant")
+        rows = pd.DataFrame([{"setting (example)": str(p.get(draft["variable"], "")), "d32 (example)": str(p["d32"])}
+                             for p in draft["points"]])
+        edited = st.data_editor(rows, num_rows="dynamic", key="editor_draft_points", width="stretch")
+        b1, b2 = st.columns(2)
+        use = b1.form_submit_button("Use these points in the case", type="primary", key="btn_draft_use")
+        drop = b2.form_submit_button("Discard the example", key="btn_draft_discard")
+    if drop:
+        st.session_state.pop(DRAFT, None)
+        st.rerun()
+    if use:
+        points = [{var: str(r["setting (example)"]).strip(), "d32": str(r["d32 (example)"]).strip()}
+                  for _, r in edited.iterrows()
+                  if str(r["setting (example)"]).strip() or str(r["d32 (example)"]).strip()]
+        state.ensure_case()["scaleup"] = {"method": "power_law", "variable": var, "points": points,
+                                          "plant": plant_x.strip()}
+        st.session_state.pop(DRAFT, None)
+        st.rerun()
+
+
 data = state.ensure_case()
 with st.container(border=True):
     st.subheader("Plant conditions")
     if not isinstance(data.get("scaleup"), dict):
         st.info("This case has no scale-up section: the drops of the Drops and bubbles page are taken as "
                 "the plant's. Add one to predict the plant d32 from lab points.", icon=":material/info:")
-        if st.button("Add a power-law scale-up from lab points", key="btn_add_scaleup"):
-            data["scaleup"] = dict(TEMPLATE)
-            st.rerun()
+        draft = st.session_state.get(DRAFT)
+        if draft is None:
+            if st.button("Add a power-law scale-up from lab points", key="btn_add_scaleup"):
+                st.session_state[DRAFT] = {k: (list(v) if isinstance(v, list) else v) for k, v in TEMPLATE.items()}
+                st.rerun()
+        else:
+            _draft_form(draft)
     else:
         state.show_errors("scaleup")
         method = data["scaleup"].get("method", "power_law")
@@ -191,14 +228,16 @@ if sc is not None:
     lo, hi = sc["plant_d32_band_m"]
     band = sc.get("dose_band_kg_product")
     charts.tiles([
-        ("Lab d32", num(sc["lab_d32_m"] * UM, "um")),
-        ("Predicted plant d32", num(sc["plant_d32_m"] * UM, "um"),
-         f"band {num(lo * UM, '')} to {num(hi * UM, 'um')}: {sc['band_method']}"),
-        ("Plant d32 band", f"{num(lo * UM, '')}–{num(hi * UM, 'um')}", sc["band_method"]),
+        ("Lab d32", num(sc["lab_d32_m"] * UM, "µm"), "the d32 of the Drops and bubbles page"
+         + (" (not used by a power law: its lab points carry their own sizes)" if sc["method"] == "power_law" else "")),
+        ("Predicted plant d32", num(sc["plant_d32_m"] * UM, "µm"),
+         f"band {num(lo * UM, '')} to {num(hi * UM, 'µm')}: {sc['band_method']}; every dose page uses it"),
+        ("Plant d32 band", f"{num(lo * UM, '')}–{num(hi * UM, 'µm')}", sc["band_method"]),
         ("Dose over the band", f"{num(band[0], '')}–{num(band[1], 'kg')}" if band else "not reachable",
          "product per batch at the ends of the plant d32 band"),
     ])
-    st.caption(f"Exponent {num(sc['exponent'], '')} ({sc['exponent_source']}). The dose pages use the plant d32.")
+    st.caption(f"Exponent {num(sc['exponent'], '')} ({sc['exponent_source']}). The dose pages use the plant d32; "
+               f"at the lab d32 the dose would be {num(sc.get('lab_dose_kg_product'), 'kg')} of product.")
     for w in sc["warnings"]:
         st.warning(w, icon=":material/warning:")
 
