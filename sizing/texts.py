@@ -137,8 +137,7 @@ DOSE_CONTEXT = (
     "storage stability, texture, process losses and ingredients that bind surfactant; do not cut an "
     "existing recipe down to it without trials.")
 
-DOSE_CONTEXT_SHORT = ("equilibrium demand of interface and phases; often far below a recipe's use level "
-                      "(which also pays for stability and losses)")
+DOSE_CONTEXT_SHORT = "equilibrium demand of interface and phases: often far below a recipe's use level"
 
 
 # ---------------------------------------------------------------------------------------------

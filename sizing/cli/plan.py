@@ -13,12 +13,13 @@ from pathlib import Path
 
 from ..case import load_case, loads_case
 from ..errors import InputError
+from ..outputs import report
 from ..outputs.jsonify import dumps
 from ..outputs.plan_files import OUTPUTS, build_outputs, write_outputs  # noqa: F401
 from ..outputs.result_json import plan_json
 from ..outputs.solve_json import solution_json
 from ..planning.plan import plan_warnings
-from ..texts import CLI_CAUTION
+from ..texts import CLI_CAUTION, DOSE_CONTEXT_SHORT
 from ..units import sig
 from .common import clean, numeric_guard
 
@@ -29,6 +30,9 @@ def register(sub) -> None:
                                    "and report.html, result.json and trial_plan.csv in DIR.")
     p.add_argument("case", nargs="?", help="case file (TOML); omit to plan the built-in demo case")
     p.add_argument("--out", metavar="DIR", help="output folder (default ./<case-name>_plan)")
+    p.add_argument("--prepared-by", metavar="NAME", help="name for the report's 'prepared by' line (blank line to sign without)")
+    p.add_argument("--checked-by", metavar="NAME", help="name for the report's 'checked by' line (blank line to sign without)")
+    p.add_argument("--revision", metavar="TEXT", help="revision shown in the report's head, e.g. 'B' or '2' (blank without)")
     p.add_argument("--json", action="store_true", help="print result.json on stdout instead of the summary (the files are still written)")
     p.set_defaults(func=run)
 
@@ -52,6 +56,7 @@ def describe(plan) -> str:
         lines += [f"  - {o}" for o in plan.options]
     lines += [
         f"  recommended charge     {u(r.kg_product_per_batch, 'kg')} of {plan.case.active_name} per batch",
+        f"                         ({DOSE_CONTEXT_SHORT})",
         f"  active                 {u(r.kg_active_per_batch, 'kg')} ({u(r.mol_per_batch, 'mol')})",
         f"  built on               {u(r.base_kg_product, 'kg')} product"
         f" {'at the CMC ceiling' if not plan.feasible else ('covering P%g of the spreads' % plan.uncertainty.monte_carlo.percentile) if plan.uncertainty is not None else 'for the target'}, margin {r.margin * 100:.3g} %, "
@@ -91,6 +96,9 @@ def run(args) -> int:
     out_dir = Path(args.out) if args.out else Path.cwd() / f"{stem}_plan"
     with numeric_guard(args):  # before any file is written: a failed run keeps the old plan
         plan, files = build_outputs(case, source)
+        names = {k: getattr(args, k, None) for k in ("prepared_by", "checked_by", "revision")}
+        if any(names.values()):  # the sections are kept per plan: only the head is drawn again
+            files["report.html"] = report.render(plan, **names)
     try:
         written = write_outputs(out_dir, files)
     except OSError as exc:
