@@ -59,7 +59,7 @@ def test_drops_page_names_lab_and_plant_d32_with_a_scaleup():
     at = run(page("drops", MINI))
     info = views.d32_info(load_case(MINI))
     assert number(metric(at, "Lab d32")) == pytest.approx(info["lab_d32_m"] * 1e6, rel=5e-3)
-    assert number(metric(at, "Plant d32 (used for the dose)")) == pytest.approx(info["used_d32_m"] * 1e6, rel=5e-3)
+    assert number(metric(at, "Plant d32 (for dose)")) == pytest.approx(info["used_d32_m"] * 1e6, rel=5e-3)
     text = " ".join(i.value for i in at.info)
     assert "does not change the dose" in text and "plant d32" in text
     assert "Lab d32" in at.text_input(key="f:drops.d32").label
@@ -78,7 +78,7 @@ def test_size_table_with_scaleup_chart_and_tile_show_the_same_d32():
     shown = number(metric(at, "Lab d32"))
     curve = views.size_curve(parse_case(at.session_state["case_dict"], DEMOS))  # what the chart marks
     assert shown == pytest.approx(curve["d32_m"] * 1e6, rel=5e-3)
-    assert number(metric(at, "Plant d32 (used for the dose)")) != pytest.approx(shown, rel=5e-3)
+    assert number(metric(at, "Plant d32 (for dose)")) != pytest.approx(shown, rel=5e-3)
 
 
 def test_what_if_d32_moves_the_dose_with_a_scaleup():

@@ -10,11 +10,22 @@ if __package__ in (None, "") and str(Path(__file__).resolve().parents[1]) not in
 
 from ui import state  # noqa: E402
 
-st.set_page_config(page_title="sizing workbench", page_icon=":material/bubble_chart:", layout="wide")
+# the page icon is a file of the package: an icon name would make the browser fetch it from a font server
+st.set_page_config(page_title="sizing workbench", page_icon=str(Path(__file__).resolve().parent / "icon.png"),
+                   layout="wide")
 
 HERE = Path(__file__).resolve().parent / "screens"
+CASE_PAGE = st.Page(str(HERE / "case.py"), title="Case", icon=":material/description:", url_path="case")
+
+
+def _start() -> None:
+    """The address without a page ('/') opens the Case page, so that '/case' is a page of its own."""
+    st.switch_page(CASE_PAGE, query_params=dict(st.query_params))
+
+
 pages = [
-    st.Page(str(HERE / "case.py"), title="Case", icon=":material/description:", default=True, url_path="case"),
+    st.Page(_start, title="Start", default=True, visibility="hidden", url_path="start"),
+    CASE_PAGE,
     st.Page(str(HERE / "drops.py"), title="Drops and bubbles", icon=":material/bubble_chart:", url_path="drops"),
     st.Page(str(HERE / "surfactant.py"), title="Surfactant", icon=":material/science:", url_path="surfactant"),
     st.Page(str(HERE / "dose.py"), title="Dose balance", icon=":material/balance:", url_path="dose"),

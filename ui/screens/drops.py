@@ -85,7 +85,7 @@ with right:
     d32_tiles = [("Lab d32" if lab else "d32", num(lab_d32 * UM, "µm"),
                   "Sauter mean diameter of the size description: sum of d³ over sum of d²")]
     if lab:
-        d32_tiles.append(("Plant d32 (used for the dose)", num(s["d32_m"] * UM, "µm"),
+        d32_tiles.append(("Plant d32 (for dose)", num(s["d32_m"] * UM, "µm"),
                           "predicted by the scale-up section (Scale-up page); the area below uses it"))
     charts.tiles(d32_tiles + [
         ("dv50", num(size.get("dv50") and size["dv50"] * UM, "µm"), "volume median diameter"),
