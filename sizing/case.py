@@ -283,6 +283,8 @@ class Batch(Section):
     temperature: Q("temperature", gt=0) = Field(default_factory=lambda: Value(298.15, "25 degC", "temperature"))
     continuous_density: Q("density", gt=0) | None = None
     dispersed_density: Q("density", gt=0) | None = None
+    salt: Q("concentration", ge=0) = Field(default_factory=lambda: Value(0.0, "0 mM", "concentration"))
+    storage_temperature: Q("temperature", gt=0) | None = None
 
     @model_validator(mode="after")
     def _size(self):
@@ -330,6 +332,18 @@ class Drops(Section):
         return self
 
 
+def _check_conditions(s) -> None:
+    """Temperature keys of a surfactant or blend component that do not belong together."""
+    raw = getattr(s, "model_fields_set", set())
+    for key in ("micellisation_enthalpy", "adsorption_enthalpy"):
+        if key in raw and getattr(s, key).si != 0 and s.reference_temperature is None:
+            raise ValueError(f"{key}: an enthalpy moves the CMC or K away from the temperature they were "
+                             "measured at; give reference_temperature (e.g. '25 degC') with it")
+    if s.krafft_point is not None and s.cloud_point is not None and s.krafft_point.si >= s.cloud_point.si:
+        raise ValueError(f"krafft_point: {s.krafft_point.raw!r} is not below cloud_point {s.cloud_point.raw!r}; "
+                         "expected a Krafft point below the cloud point (between them the surfactant forms micelles)")
+
+
 class Surfactant(Section):
     name: str = "surfactant"
     from_: str | None = Field(default=None, alias="from")
@@ -347,9 +361,18 @@ class Surfactant(Section):
     price_per_kg: Q("dimensionless", ge=0) | None = None
     currency: str = ""
     diffusivity: Q("diffusivity", gt=0) | None = None
+    reference_temperature: Q("temperature", gt=0) | None = None
+    micellisation_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
+        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
+    adsorption_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
+        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
+    counterion_binding: Q("dimensionless", ge=0, le=1) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    krafft_point: Q("temperature", gt=0) | None = None
+    cloud_point: Q("temperature", gt=0) | None = None
 
     @model_validator(mode="after")
     def _excess(self):
+        _check_conditions(self)
         if self.isotherm.strip().lower() not in MODELS:
             raise ValueError(f"isotherm: unknown isotherm {self.isotherm!r}; expected one of {', '.join(MODELS)}")
         if (self.max_surface_excess is None) == (self.area_per_molecule is None):
@@ -433,9 +456,18 @@ class BlendComponent(Section):
     gibbs_prefactor: Q("dimensionless", ge=1, le=3) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
     partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
     price: Price | None = None
+    reference_temperature: Q("temperature", gt=0) | None = None
+    micellisation_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
+        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
+    adsorption_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
+        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
+    counterion_binding: Q("dimensionless", ge=0, le=1) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    krafft_point: Q("temperature", gt=0) | None = None
+    cloud_point: Q("temperature", gt=0) | None = None
 
     @model_validator(mode="after")
     def _excess(self):
+        _check_conditions(self)
         if self.isotherm.strip().lower() != "langmuir":
             raise ValueError(f"isotherm: a blend component uses the competitive Langmuir isotherm; "
                              f"got {self.isotherm!r} (Frumkin and Volmer are for a single [surfactant])")
@@ -661,6 +693,10 @@ class Case(Section):
         if (self.surfactant is None) == (self.blend is None):
             raise ValueError("give exactly one of [surfactant] (one surfactant) or [blend] (several "
                              "[[blend.component]]); got " + ("both" if self.surfactant else "neither"))
+        if self.batch.salt.si > 0 and self.case.continuous == "oil":
+            raise ValueError("batch.salt: the salt corrections act on the CMC in an aqueous continuous phase; "
+                             "this batch is oil-continuous (W/O), where the CMC is the oil's; remove salt "
+                             "(its effect on a W/O emulsion is not modelled)")
         return self
 
     @property

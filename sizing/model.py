@@ -16,7 +16,7 @@ import numpy as np
 from . import plausible
 from .case import point_x, read_size_table, table_path
 from .errors import InputError
-from .physics import balance, distribution, isotherm, phases
+from .physics import balance, conditions, distribution, isotherm, phases
 from .physics import blend as blend_physics
 from .physics.dropsize import PowerLawFit, fit_power_law, stirred_tank_ratio, stirred_tank_speed
 from .physics.properties import water_surface_tension
@@ -232,8 +232,52 @@ def inputs_from_values(case, values: dict) -> Inputs:
         continuous_density=rho_c, dispersed_density=rho_d, d32=d32,
         shape_factor=values["drops.shape_factor"], clean_tension=gamma0,
         target_value=values[f"target.{kind}"], margin=values["target.margin"], size_stats=stats,
-        clean_tension_source=source, lab_d32=lab_d32, range_warnings=tuple(plausible.model_warnings(c)), **act,
+        clean_tension_source=source, lab_d32=lab_d32,
+        range_warnings=tuple(plausible.model_warnings(c)) + tuple(condition_warnings(c, temperature)), **act,
     )
+
+
+def _at_conditions(c, values: dict, prefix: str, cmc, k, n):
+    """CMC, K and Gibbs prefactor at the batch temperature and salt (``prefix``: a TOML path stem).
+
+    The case's values hold at ``reference_temperature`` (default: the case's own batch
+    temperature, so nothing moves); the temperature law comes first, then Corrin-Harkins for the
+    salt in an aqueous continuous phase (:mod:`sizing.physics.conditions`).
+    """
+    t = values["batch.temperature"]
+    t_ref = _get(values, f"{prefix}.reference_temperature", c.batch.temperature.si)
+    b = _get(values, f"{prefix}.counterion_binding", 0.0)
+    cmc_t = conditions.cmc_at_temperature(cmc, t, t_ref, _get(values, f"{prefix}.micellisation_enthalpy", 0.0), b)
+    k_t = conditions.adsorption_constant_at_temperature(k, t, t_ref, _get(values, f"{prefix}.adsorption_enthalpy", 0.0))
+    salt = _get(values, "batch.salt", 0.0)
+    if c.case.continuous == "water":
+        cmc_t = conditions.cmc_with_salt(cmc_t, salt, b)
+        n = conditions.gibbs_prefactor_with_salt(n, np.where(np.isfinite(cmc_t), cmc_t, 0.0), salt)
+    return cmc_t, k_t, n
+
+
+def condition_warnings(case, temperature=None) -> list[str]:
+    """Krafft and cloud points against the batch and storage temperatures (prominent warnings)."""
+    b = case.batch
+    temps = [("batch", b.temperature.si if temperature is None else float(np.min(temperature)))]
+    if b.storage_temperature is not None:
+        temps.append(("storage", b.storage_temperature.si))
+    items = ([(case.surfactant.name, case.surfactant)] if case.surfactant is not None
+             else [(comp.name, comp) for comp in case.blend.component])
+    out = []
+    for name, s in items:
+        for where, t in temps:
+            if s.krafft_point is not None and s.krafft_point.si > t:
+                out.append(f"{name}: the Krafft point {s.krafft_point.si - 273.15:.4g} degC is above the {where} "
+                           f"temperature {t - 273.15:.4g} degC: the surfactant crystallises instead of forming "
+                           "micelles and may not dissolve; the balance does not hold there (choose a grade with a "
+                           "lower Krafft point, or keep the batch warmer)")
+            if s.cloud_point is not None and s.cloud_point.si < t:
+                out.append(f"{name}: the cloud point {s.cloud_point.si - 273.15:.4g} degC is below the {where} "
+                           f"temperature {t - 273.15:.4g} degC: the nonionic phase-separates and the emulsion may "
+                           "invert or break; the balance does not hold there (process below the cloud point, or "
+                           "choose a more hydrophilic grade)")
+    return out
 
 
 def _surfactant_values(c, values: dict) -> dict:
@@ -246,15 +290,21 @@ def _surfactant_values(c, values: dict) -> dict:
             gi = np.asarray(gi) / np.asarray(molar_mass)
     else:
         gi = isotherm.surface_excess_from_area(values["surfactant.area_per_molecule"])
+    cmc, k, n = _at_conditions(c, values, "surfactant", _get(values, "surfactant.cmc", math.inf),
+                               values["surfactant.adsorption_constant"], values["surfactant.gibbs_prefactor"])
     return dict(
         model=isotherm.check_model(s.isotherm, values["surfactant.interaction"]),
         molar_mass=molar_mass, active_fraction=values["surfactant.active_fraction"],
-        cmc=_get(values, "surfactant.cmc", math.inf), max_surface_excess=gi,
-        adsorption_constant=values["surfactant.adsorption_constant"],
-        interaction=values["surfactant.interaction"], gibbs_prefactor=values["surfactant.gibbs_prefactor"],
+        cmc=_scalar(cmc), max_surface_excess=gi, adsorption_constant=_scalar(k),
+        interaction=values["surfactant.interaction"], gibbs_prefactor=_scalar(n),
         partition_coefficient=values["surfactant.partition_coefficient"],
         price_per_kg=_get(values, "surfactant.price_per_kg"),
     )
+
+
+def _scalar(x):
+    """A 0-d array back to a float (the engine's scalar cases stay floats)."""
+    return float(x) if np.ndim(x) == 0 else x
 
 
 def _stack(arrays):
@@ -292,13 +342,16 @@ def _blend_values(c, values: dict) -> dict:
         gis.append(g)
     active = col("active_fraction")
     price = col("price")
-    cmc = col("cmc", math.inf)
+    at = [_at_conditions(c, values, f"blend.component[{i}]", _get(values, f"blend.component[{i}].cmc", math.inf),
+                         values[f"blend.component[{i}].adsorption_constant"],
+                         values[f"blend.component[{i}].gibbs_prefactor"]) for i in range(len(comps))]
+    cmc = _stack([a[0] for a in at])
     beta = _get(values, "blend.interaction", 0.0)
     bi = BlendInputs(
         names=tuple(comp.name for comp in comps), mole_fractions=alpha, molar_mass=mm,
         active_fraction=active, cmc=cmc, max_surface_excess=_stack(gis),
-        adsorption_constant=col("adsorption_constant"), partition_coefficient=col("partition_coefficient"),
-        gibbs_prefactor=col("gibbs_prefactor"), price=price, micelles=bl.micelles, interaction=beta,
+        adsorption_constant=_stack([a[1] for a in at]), partition_coefficient=col("partition_coefficient"),
+        gibbs_prefactor=_stack([a[2] for a in at]), price=price, micelles=bl.micelles, interaction=beta,
     )
     m_mean = np.sum(alpha * mm, axis=-1)
     per_mol = bi.product_mass_per_mol
@@ -627,6 +680,39 @@ def onset_dose_mol(inputs: Inputs):
     if not np.all(np.isfinite(cmc)):
         return np.where(np.isfinite(cmc), np.nan, np.inf) + np.zeros(np.shape(cmc))
     return solve(inputs.with_values(target_kind="free_concentration", target_value=cmc)).dose_mol
+
+
+def storage_solution(case, sol: Solution) -> Solution | None:
+    """Re-equilibrate a solved dose at ``[batch] storage_temperature`` (same phases and area).
+
+    The CMC and K move with the temperature laws of the case (nothing moves without enthalpies);
+    None without a storage temperature or where the dose is unknown (an unreachable target).
+    """
+    t = case.batch.storage_temperature
+    dose = np.asarray(sol.dose_mol, dtype=float)
+    if t is None or not np.all(np.isfinite(dose)):
+        return None
+    stored = case_inputs(case, {"batch.temperature": t.si}).with_values(
+        d32=sol.inputs.d32, volume=sol.inputs.volume)
+    return solve(stored, dose_mol=dose)
+
+
+def storage_warnings(case, sol: Solution, stored: Solution | None = None) -> list[str]:
+    """A warning when the coverage at the storage temperature falls below the target coverage."""
+    if case.batch.storage_temperature is None:
+        return []
+    stored = storage_solution(case, sol) if stored is None else stored
+    if stored is None:
+        return []
+    target = (np.asarray(sol.inputs.target_value, dtype=float) if sol.inputs.target_kind == "coverage"
+              else np.asarray(sol.state.coverage, dtype=float))
+    cov = np.asarray(stored.state.coverage, dtype=float)
+    if np.all(cov >= target * (1 - 1e-9)):
+        return []
+    return [f"at the storage temperature {case.batch.storage_temperature.si - 273.15:.4g} degC the charged dose "
+            f"re-equilibrates to coverage {float(np.min(cov)):.3g}, below the {float(np.max(target)):.3g} it has "
+            "in the batch: K and the CMC move with temperature; check stability in storage (a cold or hot "
+            "storage test) or size the dose for the storage conditions"]
 
 
 def parse_dose(text, molar_mass: float, field: str = "--dose") -> float:

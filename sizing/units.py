@@ -42,6 +42,7 @@ DIMENSIONS: dict[str, tuple[str, str, str]] = {
     "power_per_volume": ("[mass] / [length] / [time] ** 3", "W/m**3", "'2 kW/m**3'"),
     "diffusivity": ("[length] ** 2 / [time]", "m**2/s", "'5e-10 m**2/s'"),
     "price": ("1 / [mass]", "1/kg", "'3.2 1/kg' (currency per kg)"),
+    "molar_energy": ("[mass] * [length] ** 2 / [time] ** 2 / [substance]", "J/mol", "'12 kJ/mol'"),
     "dimensionless": ("", "", "a plain number"),
 }
 

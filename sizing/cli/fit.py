@@ -8,7 +8,8 @@ import numpy as np
 
 from ..errors import InputError
 from ..fitting.block import fit_depletion, fit_partition, fit_tension, read_tension_csv, write_fitted_block
-from ..outputs.fit_json import depletion_fit_json, partition_fit_json, tension_fit_json
+from ..fitting.micelles import fit_interaction
+from ..outputs.fit_json import depletion_fit_json, interaction_fit_json, partition_fit_json, tension_fit_json
 from ..outputs.jsonify import dumps
 from ..physics.isotherm import area_from_surface_excess
 from ..physics.properties import water_surface_tension
@@ -205,9 +206,6 @@ def _partition(args) -> int:
 
 
 def _interaction(args) -> int:
-    from ..fitting.micelles import fit_interaction  # deferred: only this sub-command needs it
-    from ..outputs.fit_json import interaction_fit_json
-
     res = fit_interaction(args.data)
     if args.json:
         print(dumps(interaction_fit_json(res)))

@@ -6,7 +6,14 @@ import math
 
 import numpy as np
 
-from ..model import Solution, onset_dose_mol, solution_warnings, split_by_phase
+from ..model import (
+    Solution,
+    onset_dose_mol,
+    solution_warnings,
+    split_by_phase,
+    storage_solution,
+    storage_warnings,
+)
 from ..physics import phases
 from ..texts import unreachable_reason
 from .jsonify import json_number as _num
@@ -74,11 +81,18 @@ def solution_json(sol: Solution, case=None) -> dict:
             "active_fraction": _num(i.active_fraction),
         },
     }
+    out["at_batch"] = at_batch_json(sol)
+    if case is not None and case.batch.storage_temperature is not None:
+        stored = storage_solution(case, sol)
+        out["storage"] = storage_json(case, stored)
+        storage_notes = storage_warnings(case, sol, stored)
+    else:
+        storage_notes = []
     if i.blend is not None:
         out["components"] = components_json(sol)
         out["blend"] = blend_json(sol)
         out["surfactant"]["name"] = case.active_name if case is not None else None
-    out["warnings"] = solution_warnings(sol)
+    out["warnings"] = solution_warnings(sol) + storage_notes
     if not feasible:
         out["unreachable"] = unreachable_reason(float(sol.max_coverage))
     return out
@@ -136,3 +150,30 @@ def blend_json(sol: Solution) -> dict:
         "onset_dose_mol": _num(onset_dose_mol(sol.inputs)),
         "components": len(bi.names),
     }
+
+
+def at_batch_json(sol: Solution) -> dict:
+    """The ``at_batch`` object: the values the balance used at the batch temperature and salt (SI)."""
+    i = sol.inputs
+    out = {"temperature_K": _num(i.temperature), "cmc_mol_m3": _num(i.cmc),
+           "adsorption_constant_m3_mol": _num(i.adsorption_constant), "gibbs_prefactor": _num(i.gibbs_prefactor)}
+    if i.blend is not None:
+        bi = i.blend
+        m = bi.size
+        rows = [np.asarray(x, dtype=float).reshape(-1, m)[0] for x in (bi.cmc, bi.adsorption_constant,
+                                                                         bi.gibbs_prefactor)]
+        out["components"] = [{"name": n, "cmc_mol_m3": _num(rows[0][j]), "adsorption_constant_m3_mol":
+                              _num(rows[1][j]), "gibbs_prefactor": _num(rows[2][j])} for j, n in enumerate(bi.names)]
+    return out
+
+
+def storage_json(case, stored: Solution | None) -> dict:
+    """The ``storage`` object: the charged dose re-equilibrated at the storage temperature."""
+    t = case.batch.storage_temperature.si
+    if stored is None:
+        return {"temperature_K": t, "coverage": None, "free_concentration_mol_m3": None, "cmc_mol_m3": None,
+                "micelle_mol": None, "tension_N_m": None, "note": "no dose to store (the target is not reachable)"}
+    return {"temperature_K": t, "coverage": _num(stored.state.coverage),
+            "free_concentration_mol_m3": _num(stored.state.free_concentration), "cmc_mol_m3": _num(stored.inputs.cmc),
+            "micelle_mol": _num(stored.state.micelle_mol), "tension_N_m": _num(stored.tension),
+            "adsorption_constant_m3_mol": _num(stored.inputs.adsorption_constant)}

@@ -470,6 +470,9 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
 def plan_warnings(plan: Plan) -> list[str]:
     """Return the engine's warnings for the target state, the charge and the trial levels."""
     out = model.solution_warnings(plan.solution)
+    if plan.feasible:  # the charge itself, re-equilibrated at the storage temperature
+        charged = model.solve(plan.inputs, dose_mol=plan.recommendation.mol_per_batch)
+        out += [w for w in model.storage_warnings(plan.case, charged) if w not in out]
     tensions = [plan.recommendation.tension_at_charge] + [t.tension for t in plan.trial]
     inputs = model.case_inputs(plan.case)
     for w in model.tension_warnings(inputs, np.array(tensions, dtype=float), "the charge or a trial level"):
