@@ -5,8 +5,9 @@ from __future__ import annotations
 import numpy as np
 
 from ..case import load_case
-from ..model import case_inputs
+from ..model import case_inputs, onset_dose_mol
 from ..outputs.jsonify import json_number
+from ..outputs.solve_json import at_batch_json
 from ..physics import balance, distribution, phases
 from ..units import DIMENSIONS, sig
 from .common import print_json, table
@@ -30,8 +31,8 @@ def resolve(case) -> dict:
     inputs = {}
     for path, v in case.quantities().items():
         unit = DIMENSIONS[v.dimension][1]
-        if path == "surfactant.price_per_kg":
-            unit = f"{case.surfactant.currency}/kg"
+        if path == "surfactant.price_per_kg" or path.endswith("].price"):
+            unit = f"{case.currency}/kg"
         raw = v.raw.get("value") if isinstance(v.raw, dict) else v.raw
         inputs[path] = {"si": v.si, "unit": unit or "-", "given": raw,
                         "spread": list(v.spread) if v.spread else None}
@@ -57,7 +58,17 @@ def resolve(case) -> dict:
         "coverage_at_cmc": _f(theta_cmc),
         "cmc_mol_m3": _f(i.cmc), "clean_tension_N_m": _f(i.clean_tension),
         "clean_tension_source": i.clean_tension_source if _f(i.clean_tension) is not None else None,
+        # the values the balance uses at the batch temperature and salt (moved from the reference
+        # temperature by the case's enthalpies, and by Corrin-Harkins for the salt)
+        "at_batch": at_batch_json(i),
+        "warnings": list(i.range_warnings),
     }
+    if i.blend is not None:  # a blend has no isotherm constants of its own: the components hold them
+        derived["coverage_at_cmc"] = None
+        derived["max_surface_excess_mol_m2"] = derived["max_surface_excess_mg_m2"] = None
+        derived["isotherm"] = "competitive Langmuir (blend)"
+        derived["mixed_cmc_mol_m3"] = _f(i.cmc)
+        derived["onset_dose_mol"] = _f(onset_dose_mol(i))
     return {"title": case.case.title, "valid": True, "inputs": inputs, "derived": derived}
 
 
@@ -88,11 +99,20 @@ def describe(out: dict) -> str:
         ("Gamma_inf", f"{u(d['max_surface_excess_mol_m2'], 'mol/m**2')} "
                       f"({u(d['max_surface_excess_mg_m2'], 'mg/m**2')})"),
         ("isotherm", d["isotherm"]),
-        ("CMC", u(d["cmc_mol_m3"], "mol/m**3") if d["cmc_mol_m3"] is not None else "none (no micelles)"),
+        ("mixed CMC (charged composition, continuous phase alone)" if "mixed_cmc_mol_m3" in d else "CMC",
+         u(d["cmc_mol_m3"], "mol/m**3") if d["cmc_mol_m3"] is not None else "none (no micelles)"),
         ("coverage at the CMC", u(d["coverage_at_cmc"], "(-)")),
         ("clean tension", u(d["clean_tension_N_m"], "N/m") + (f" ({d['clean_tension_source']})"
                                                                if d["clean_tension_source"] else "")),
     ]
+    ab = d["at_batch"]
+    drows.append(("at the batch temperature", f"{u(ab['temperature_K'], 'K')}: CMC {u(ab['cmc_mol_m3'], 'mol/m**3')}, "
+                  f"K {u(ab['adsorption_constant_m3_mol'], 'm**3/mol')}, n {u(ab['gibbs_prefactor'], '(-)')}"))
+    for comp in ab.get("components", ()):
+        drows.append((f"  {comp['name']}", f"CMC {u(comp['cmc_mol_m3'], 'mol/m**3')}, "
+                      f"K {u(comp['adsorption_constant_m3_mol'], 'm**3/mol')}, n {u(comp['gibbs_prefactor'], '(-)')}"))
+    if "onset_dose_mol" in d:
+        drows.append(("onset of mixed micelles", u(d["onset_dose_mol"], "mol per batch")))
     return "\n\n".join([table(rows, f"{out['title']}: inputs in SI"), table(drows, "derived (no solve)"),
                         "case is valid"])
 

@@ -81,7 +81,7 @@ def solution_json(sol: Solution, case=None) -> dict:
             "active_fraction": _num(i.active_fraction),
         },
     }
-    out["at_batch"] = at_batch_json(sol)
+    out["at_batch"] = at_batch_json(sol.inputs)
     if case is not None and case.batch.storage_temperature is not None:
         stored = storage_solution(case, sol)
         out["storage"] = storage_json(case, stored)
@@ -152,9 +152,9 @@ def blend_json(sol: Solution) -> dict:
     }
 
 
-def at_batch_json(sol: Solution) -> dict:
-    """The ``at_batch`` object: the values the balance used at the batch temperature and salt (SI)."""
-    i = sol.inputs
+def at_batch_json(i) -> dict:
+    """The ``at_batch`` object of engine inputs: the values the balance uses at the batch temperature
+    and salt (SI)."""
     out = {"temperature_K": _num(i.temperature), "cmc_mol_m3": _num(i.cmc),
            "adsorption_constant_m3_mol": _num(i.adsorption_constant), "gibbs_prefactor": _num(i.gibbs_prefactor)}
     if i.blend is not None:
