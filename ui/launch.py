@@ -26,10 +26,35 @@ def warm_up() -> None:
     views.summary(parse_case(data, folder))
 
 
+def follow_parent() -> None:
+    """Make this server end when the process that started it (``sizing app``) ends.
+
+    ``sizing app`` runs the server as a child process; a SIGTERM (or SIGKILL) to ``sizing app``
+    alone would otherwise leave the server running and its port taken.  On Linux the kernel
+    sends this process SIGTERM when its parent dies (``PR_SET_PDEATHSIG``), which Streamlit
+    handles by shutting down cleanly; SIGINT from a terminal reaches both processes anyway.
+    Elsewhere this does nothing.
+    """
+    import ctypes
+    import ctypes.util
+    import os
+    import signal
+
+    parent = os.getppid()
+    try:
+        libc = ctypes.CDLL(ctypes.util.find_library("c") or "libc.so.6", use_errno=True)
+        libc.prctl(1, signal.SIGTERM, 0, 0, 0)  # 1 = PR_SET_PDEATHSIG
+    except (OSError, AttributeError):  # not Linux: nothing to arrange
+        return
+    if os.getppid() != parent:  # the parent died before the request took effect
+        os.kill(os.getpid(), signal.SIGTERM)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run ``streamlit <argv>`` in this process (``argv`` as for the ``streamlit`` command)."""
     from streamlit.web import cli
 
+    follow_parent()
     warm_up()
     sys.argv = ["streamlit", *(sys.argv[1:] if argv is None else argv)]
     return cli.main(prog_name="streamlit")
