@@ -113,6 +113,10 @@ FIELD_LABELS = {
     "scaleup.exponent": "power-law exponent b", "scaleup.lab_diameter": "lab impeller diameter",
     "scaleup.lab_speed": "lab speed", "scaleup.plant_speed": "plant speed",
     "scaleup.weber_exponent": "Weber exponent", "process.residence_time": "residence time in the homogeniser",
+    "batch.salt": "salt concentration", "surfactant.micellisation_enthalpy": "micellisation enthalpy",
+    "surfactant.adsorption_enthalpy": "adsorption enthalpy", "surfactant.counterion_binding": "counter-ion binding",
+    "surfactant.fraction": "share in the blend", "surfactant.price": "price per kg of product",
+    "blend.clean_tension": "clean-interface tension", "blend.interaction": "mixed-micelle interaction beta",
 }
 
 

@@ -39,6 +39,7 @@ from ..texts import DOSE_CONTEXT, PASS_NOTE, pass_criterion
 from ..version import __version__
 from .htmlbits import CSS, chart, esc, q, section, table, unit_text  # noqa: F401  (q: re-exported)
 from .report_parts import (
+    _input_name,
     render_achievable,
     render_adsorption,
     render_blend,
@@ -316,13 +317,17 @@ def render_unreachable(plan) -> str:
 
 
 def render_assumptions(plan) -> str:
-    rows = [(a["label"], a["value"], a["path"], a["source"]) for a in plan.assumptions]
+    comps = tuple(plan.inputs.blend.names) if getattr(plan.inputs, "blend", None) is not None else ()
+    rows = [(_input_name(a["path"], comps) if a["path"] and a["label"] == a["path"] else a["label"],
+             unit_text(a["value"]), a["path"], a["source"]) for a in plan.assumptions]
     body = table(rows, ("parameter", "value as given", "case path", "where it came from"), numeric_cols=())
     body += "<p>Model:</p><ul>" + "".join(f"<li>{esc(t)}</li>" for t in plan.model_assumptions) + "</ul>"
     prov = plan.case.provenance
     if prov:
         body += "<p>Fitted surfactant block: " + esc(prov.get("file", "")) + "</p>"
-        keep = {k: v for k, v in prov.items() if isinstance(v, (str, int, float, bool))}
+        # the file is named above, model and Gibbs prefactor are rows of the table above: not twice
+        keep = {k: unit_text(v) if isinstance(v, str) else v for k, v in prov.items()
+                if isinstance(v, (str, int, float, bool)) and k not in ("file", "model", "gibbs_prefactor")}
         body += table(sorted(keep.items()), ("provenance", "value"), numeric_cols=())
         img, note = _fit_plot(prov, plan.case.base_dir)
         if img:
