@@ -46,6 +46,9 @@ _API = {
     "monte_carlo": (".planning.uncertainty", "monte_carlo"),
     "sensitivity": (".planning.uncertainty", "sensitivity"),
     "parse": (".units", "parse"),
+    "Blend": (".physics.blend", "Blend"), "mixed_cmc": (".physics.blend", "mixed_cmc"),
+    "apparent_cmc": (".physics.blend", "apparent_cmc"), "poisson_homologues": (".physics.blend", "poisson_homologues"),
+    "fit_interaction": (".fitting.micelles", "fit_interaction"),
 }
 
 
@@ -73,7 +76,9 @@ __all__ = [
     # outputs
     "solution_json", "plan_json", "render_report", "build_outputs", "write_outputs", "dumps_json",
     # lab fits
-    "read_tension_csv", "fit_tension", "fit_depletion", "fit_partition",
+    "read_tension_csv", "fit_tension", "fit_depletion", "fit_partition", "fit_interaction",
+    # blends
+    "Blend", "mixed_cmc", "apparent_cmc", "poisson_homologues",
     # errors
     "SizingError", "InputError", "CalculationError",
     "__version__",
