@@ -351,3 +351,19 @@ def test_solve_json_of_a_blend_keeps_the_totals_and_adds_components():
                          capture_output=True, text=True, timeout=120)
     j = json.loads(out.stdout)
     assert j["dose"]["kg_active"] == pytest.approx(2.0, rel=1e-12)
+
+
+def test_monte_carlo_over_a_blend_with_a_spread_on_a_fraction():
+    from sizing.planning.uncertainty import monte_carlo
+
+    text = _case_text(BLEND_OK.replace("fraction = 0.6", "fraction = { value = 0.6, low = 0.5, high = 0.7 }")
+                      + "", "coverage = 0.5") + "\n[uncertainty]\nsamples = 400\nseed = 3\n"
+    case = loads_case(text)
+    mc = monte_carlo(case)
+    kg = np.asarray(mc.dose_kg_product, dtype=float)
+    assert kg.size == 400 and mc.infeasible_fraction == 0 and np.all(np.isfinite(kg))
+    # each draw equals a deterministic solve at that fraction, the other component taking the rest
+    j = 7
+    f0 = float(np.asarray(mc.draws["blend.component[0].fraction"])[j])
+    one = model.solve(model.case_inputs(case, {"blend.component[0].fraction": f0}))
+    assert float(one.kg_product) == pytest.approx(kg[j], rel=1e-9)
