@@ -39,6 +39,7 @@ import numpy as np
 from scipy.optimize import least_squares
 from scipy.special import stdtrit  # Student t quantile, stdtrit(dof, q) = scipy.stats.t.ppf(q, dof)
 
+from .. import plausible
 from ..constants import GAS_CONSTANT
 from ..errors import CalculationError, InputError
 from ..labcsv import read_lab_csv
@@ -327,7 +328,7 @@ def read_tension_csv(path) -> TensionData:
     if len(c) < MIN_BELOW + MIN_ABOVE:
         raise InputError(f"{p}: {len(c)} data rows; expected at least {MIN_BELOW + MIN_ABOVE} "
                          f"({MIN_BELOW} below the CMC and {MIN_ABOVE} above it)")
-    notes = []
+    notes = [f"warning: {w}" for w in getattr(table, "warnings", ())]  # values outside their usual range
     temperature = None
     if "temperature" in table.columns:
         t = np.asarray(table.columns["temperature"], dtype=float)
@@ -1058,9 +1059,13 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
             warnings.append("no temperature given (option or column); assumed 25 degC")
         else:
             temperature = data.temperature
-    if not (200.0 < float(temperature) < 500.0):
-        raise InputError(f"--temperature: expected a temperature between about -70 and 220 degC, "
-                         f"got {float(temperature) - 273.15:g} degC")
+    w = plausible.check("--temperature", float(temperature), "temperature")  # the ranges cases use too
+    if w:
+        warnings.append(w)
+    if clean_tension is not None:
+        w = plausible.check("--clean-tension", float(clean_tension), "tension")
+        if w:
+            warnings.append(w)
     n = float(gibbs_prefactor)
     if not (0.5 <= n <= 3.0):
         raise InputError(f"--gibbs-prefactor: expected a number from 1 (nonionic) to 2 (1:1 ionic "
