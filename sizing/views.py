@@ -212,6 +212,8 @@ def dose_split(case, d32: float | None = None) -> list[dict]:
     for place, mol in split.items():
         if inputs.system == "foam" and place == "oil":
             continue
+        if place == "micelles" and not math.isfinite(_f(inputs.cmc)):  # no CMC: no micelles to show
+            continue
         m = _f(mol)
         rows.append({"place": place, "mol": m, "kg_active": m * mm, "percent": 100.0 * m / total})
     return rows
@@ -246,6 +248,7 @@ def dose_vs_coverage(case, points: int = 60) -> dict:
         "target_coverage": _f(theta_t) if math.isfinite(_f(theta_t)) else None,
         "target_feasible": feasible,
         "max_coverage": theta_max,
+        "has_cmc": math.isfinite(_f(inputs.cmc)),
         "target_kg_product": _f(base.kg_product) if feasible else None,
     }
 

@@ -189,3 +189,32 @@ def test_errors_do_not_show_the_server_folder():
     shown = " ".join(e.value for e in at.error) + " ".join(e.value for e in at.info)
     assert "missing.csv" in shown
     assert folder not in shown and "/tmp/" not in shown
+
+
+# ---------------------------------------------------------------------------------------------
+# readable
+
+
+def test_foam_protein_case_shows_no_cmc_line_and_no_micelles_row():
+    at = run(page("dose", DEMOS / "food_foam_protein.toml"))
+    places = [r["place"] for r in views.dose_split(load_case(DEMOS / "food_foam_protein.toml"))]
+    assert "micelles" not in places
+    tables = " ".join(str(t.value) for t in at.table)
+    assert "micelles" not in tables
+    assert not any("CMC ceiling" in c.value for c in at.caption)
+    plan = run(page("plan", DEMOS / "food_foam_protein.toml"))
+    assert "micelle share [%]" not in " ".join(str(t.value.columns.tolist()) for t in plan.table)
+
+
+def test_tornado_names_inputs_in_words():
+    at = run(page("scaleup", MINI))
+    spec_inputs = views.uncertainty_view(load_case(MINI))["summary"]["sensitivity"]
+    names = {views.field_label(e["path"]) for e in spec_inputs}
+    assert "maximum surface excess" in names and "adsorption constant K" in names
+
+
+def test_field_errors_name_the_field_in_words():
+    at = run(page("drops"))
+    at.text_input(key="f:drops.d32").set_value("-2 um")
+    run(at)
+    assert any("Sauter mean diameter d32" in e.value and "drops.d32" in e.value for e in at.error)

@@ -104,7 +104,9 @@ def dose_vs_coverage(curve: dict) -> alt.LayerChart:
         tooltip=[alt.Tooltip("coverage:Q", title="coverage [-]", format=".3f"),
                  alt.Tooltip("kg_product:Q", title="product [kg]", format=".4g")],
     )
-    layers = line + _rule(curve["max_coverage"], f"CMC ceiling {curve['max_coverage']:.3f}", "#d62728")
+    layers = line
+    if curve.get("has_cmc", True):  # a protein or a polymer forms no micelles: no ceiling to mark
+        layers = layers + _rule(curve["max_coverage"], f"CMC ceiling {curve['max_coverage']:.3f}", "#d62728")
     if curve.get("target_coverage") is not None:
         layers = layers + _rule(curve["target_coverage"], f"target {curve['target_coverage']:.3f}", "#2ca02c",
                                 row=1)
@@ -193,14 +195,26 @@ def d32_vs_dose(curve: dict, dose_kg: float | None = None) -> alt.LayerChart:
     return layers.properties(height=300)
 
 
-def tornado(rows: list[dict], x_title: str) -> alt.Chart:
-    """Tornado bars: rows ``{"input", "low", "high"}`` as the change of the output."""
+def tornado(rows: list[dict], x_title: str) -> alt.LayerChart:
+    """Tornado bars: rows ``{"input", "low", "high"}`` as the change of the output, every bar labelled.
+
+    Each bar carries its own name as a text label left of the axis (the axis labels alone were
+    thinned out by Vega where they crowded); the base value is marked by a rule when given.
+    """
     df = pd.DataFrame(rows)
-    return alt.Chart(df).mark_bar(color="#1f5f8b").encode(
-        y=alt.Y("input:N", sort=None, title=None, axis=alt.Axis(labelLimit=260)),
-        x=alt.X("low:Q", title=x_title, scale=alt.Scale(zero=False)), x2="high:Q",
-        tooltip=[alt.Tooltip("input:N"), alt.Tooltip("low:Q", format=".3g"), alt.Tooltip("high:Q", format=".3g")],
-    ).properties(height=max(120, 28 * len(df)))
+    df["lo"] = df[["low", "high"]].min(axis=1)
+    df["hi"] = df[["low", "high"]].max(axis=1)
+    y = alt.Y("input:N", sort=None, title=None,
+              axis=alt.Axis(labelLimit=320, labelOverlap=False, labelFontSize=12, labelPadding=6))
+    bars = alt.Chart(df).mark_bar(color="#1f5f8b", height=18).encode(
+        y=y, x=alt.X("lo:Q", title=x_title, scale=alt.Scale(zero=False)), x2="hi:Q",
+        tooltip=[alt.Tooltip("input:N", title="input"), alt.Tooltip("low:Q", title="at P10 / low [kg]", format=".4g"),
+                 alt.Tooltip("high:Q", title="at P90 / high [kg]", format=".4g")])
+    ends = alt.Chart(df).mark_text(align="left", dx=4, fontSize=11, color="#333333").encode(
+        y=alt.Y("input:N", sort=None), x="hi:Q", text=alt.Text("hi:Q", format=".3g"))
+    starts = alt.Chart(df).mark_text(align="right", dx=-4, fontSize=11, color="#333333").encode(
+        y=alt.Y("input:N", sort=None), x="lo:Q", text=alt.Text("lo:Q", format=".3g"))
+    return (bars + starts + ends).properties(height=max(140, 40 * len(df)))
 
 
 @st.cache_data(max_entries=512, show_spinner=False)

@@ -433,7 +433,12 @@ def show_errors(path: str, where=None) -> None:
     """Show the problems of one field (or section) as ``st.error`` naming it."""
     where = where or st
     for msg in errors_for(path):
-        where.error(f"**{path}**: {msg}", icon=":material/error:")
+        where.error(f"**{md_escape(label_of(path))}** ({path}): {md_escape(msg)}", icon=":material/error:")
+
+
+def label_of(path: str) -> str:
+    """Return the readable name of a case field or section (``drops.d32`` -> Sauter mean diameter d32)."""
+    return views.field_label(path) if "." in path else f"the {path} section"
 
 
 def field(path: str, label: str, *, kind: str = "quantity", help: str | None = None,
@@ -464,7 +469,7 @@ def field(path: str, label: str, *, kind: str = "quantity", help: str | None = N
         where.text_input(md_escape(label + extra), key=key, help=help, placeholder=placeholder,
                          on_change=_store, args=(path, kind, optional))
     for msg in errors_for(path):
-        where.error(f"**{path}**: {md_escape(msg)}", icon=":material/error:")
+        where.error(f"**{md_escape(label_of(path))}** ({path}): {md_escape(msg)}", icon=":material/error:")
 
 
 def md_escape(text: str) -> str:

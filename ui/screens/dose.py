@@ -16,6 +16,7 @@ s = result["summary"]
 case = result["case"]
 target = s["target"]
 currency = case.currency
+has_cmc = case.surfactant is None or case.surfactant.cmc is not None  # a blend: its mixed micelles
 d32 = state.view("d32_info")  # where the d32 the dose uses comes from (lab or plant)
 plant = d32["scaleup"] is not None
 
@@ -55,7 +56,8 @@ else:
             ("On dispersed phase", num(dose.get("percent_on_dispersed"), "%"),
              "product as delivered, by mass of the dispersed phase"),
             ("Cost per batch", num(dose.get("cost"), currency), "product as delivered, before the margin"),
-            ("Largest coverage", num(s["max_coverage"], "(-)"), "the most any dose reaches: the coverage at the CMC, where the surfactant has one"),
+            ("Largest coverage", num(s["max_coverage"], "(-)"), "the most any dose reaches: the coverage at the CMC"
+             if has_cmc else "no CMC given: no micelles, the coverage approaches 1"),
         ])
 
 st_ = s["state"]
@@ -80,7 +82,11 @@ with left:
 with right:
     st.subheader("Dose against coverage")
     charts.draw("dose_vs_coverage", state.view("dose_vs_coverage"), key="chart_cov")
-    st.caption("Above the CMC ceiling no dose raises the coverage: extra surfactant forms micelles.")
+    if has_cmc:
+        st.caption("Above the CMC ceiling no dose raises the coverage: extra surfactant forms micelles.")
+    else:
+        st.caption("No CMC is given (a protein or polymer emulsifier): no micelles form, and the dose rises "
+                   "steeply as the coverage nears 1.")
 
 # ---- dose against d32 with a what-if slider -------------------------------------------------
 st.subheader("Dose against d32 (what if the drops come out different)")

@@ -70,6 +70,9 @@ if plan is not None:
              "tension [mN/m]": num(t["tension_N_m"] and t["tension_N_m"] * MN, ""),
              "micelle share [%]": num(100 * t["micelle_share"], "") if t["micelle_share"] else "0",
              "batches [-]": t["batches"]} for t in r["trial"]]
+    if result["case"].surfactant is not None and result["case"].surfactant.cmc is None:  # no CMC (a protein, a polymer): no micelles at any level
+        for row in rows:
+            row.pop("micelle share [%]", None)
     st.table(pd.DataFrame(rows).set_index("level [× charge]"))
     with st.expander("What to measure at each level"):
         for t in r["trial"]:

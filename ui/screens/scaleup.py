@@ -273,7 +273,7 @@ with left:
 with right:
     st.subheader("What moves the dose (tornado)")
     if mc is not None and mc["summary"].get("sensitivity"):
-        rows = [{"input": e["path"], "low": e["dose_low_kg"], "high": e["dose_high_kg"]}
+        rows = [{"input": views.field_label(e["path"]), "low": e["dose_low_kg"], "high": e["dose_high_kg"]}
                 for e in mc["summary"]["sensitivity"]]
         charts.draw("tornado", rows, "product per batch [kg]",
                     key="chart_tornado")
