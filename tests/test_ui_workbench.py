@@ -208,6 +208,7 @@ def test_foam_protein_case_shows_no_cmc_line_and_no_micelles_row():
 
 def test_tornado_names_inputs_in_words():
     at = run(page("scaleup", MINI))
+    assert len(at.get("vega_lite_chart")) >= 3  # the tornado among them
     spec_inputs = views.uncertainty_view(load_case(MINI))["summary"]["sensitivity"]
     names = {views.field_label(e["path"]) for e in spec_inputs}
     assert "maximum surface excess" in names and "adsorption constant K" in names
