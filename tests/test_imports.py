@@ -38,6 +38,8 @@ ABSENT = {
     "sizing.cli.bench": QUICK,
     "sizing.cli.app": QUICK + ("numpy", "scipy"),  # the workbench runs in its own process
 }
+for _verb in VERBS:  # a verb added later is checked too (none of the heavy libraries at import)
+    ABSENT.setdefault(f"sizing.cli.{_verb}", QUICK)
 
 
 def loaded_after_import(module: str) -> set[str]:
