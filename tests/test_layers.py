@@ -26,7 +26,7 @@ LAYERS = (
     ("model", ("sizing.model",)),
     ("planning", ("sizing.planning",)),
     ("outputs", ("sizing.outputs",)),
-    ("views", ("sizing.views", "sizing.bench", "sizing.data")),
+    ("views", ("sizing.views", "sizing.bench", "sizing.bench_blend", "sizing.data")),
     ("cli", ("sizing.cli", "sizing.__main__")),
     ("api", ("sizing",)),  # sizing/__init__.py: the public API re-exports from every layer below
 )
