@@ -12,7 +12,7 @@ def test_bench_json_contract_on_a_small_run(capsys):
     # A small run keeps the suite quick; the throughput ratios are reported, never asserted.
     assert main(["bench", "--json", "--cases", "2000", "--loop-cases", "50"]) == 0
     out = json.loads(capsys.readouterr().out)
-    assert set(out["ratio_vs_loop"]) == {"langmuir", "frumkin", "volmer"}
+    assert set(out["ratio_vs_loop"]) == {"langmuir", "frumkin", "volmer", "blend"}
     assert set(out["cases_per_s"]) == {"langmuir", "frumkin", "volmer"}
     # the vectorised answers equal the per-case brentq loop's (scipy.optimize.brentq) to 1e-9
     assert out["max_rel_diff"] < 1e-9
@@ -45,5 +45,5 @@ def test_an_entry_is_one_function_in_the_registry():
                            scipy_loop=lambda: np.array([2 * v for v in x[:loop_n]]))
 
     out = bench.run(1000, 10, monte_carlo=False, repeats=2, entries={**bench.ENTRIES, "twice": twice})
-    assert set(out["ratio_vs_loop"]) == {"langmuir", "frumkin", "volmer", "twice"}
+    assert set(out["ratio_vs_loop"]) == {"langmuir", "frumkin", "volmer", "blend", "twice"}
     assert out["max_rel_diff_by_model"]["twice"] == 0
