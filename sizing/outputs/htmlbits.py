@@ -162,11 +162,11 @@ def _fix_layout(fig, box=None) -> None:
     legends = [ax for ax in axes if ax.get_legend() is not None]
     if box is None:
         box = dict(BOX_LEGEND if legends else BOX_PLAIN)
-        # room for text tick labels on the left (bar charts): about 0.55 em a character
-        longest = max((len(t.get_text()) * 0.55 * t.get_fontsize() / 72 for ax in axes
+        # room for text tick labels on the left (bar charts): about 0.62 em a character (DejaVu Sans)
+        longest = max((len(t.get_text()) * 0.62 * t.get_fontsize() / 72 for ax in axes
                        for t in ax.get_yticklabels()), default=0.0)
         ylabel = 0.25 if any(ax.get_ylabel() for ax in axes) else 0.0
-        box["left"] = min(0.45, max(box["left"], (0.2 + ylabel + longest) / FIGSIZE[0]))
+        box["left"] = min(0.45, max(box["left"], (0.3 + ylabel + longest) / FIGSIZE[0]))
     fig.subplots_adjust(**box)
     for ax in axes:
         ax.set_xlabel(unit_text(ax.get_xlabel()))
