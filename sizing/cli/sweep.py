@@ -63,7 +63,10 @@ def _text_column(v: np.ndarray, pa, pc):
     """Return one column as pyarrow text: ``True``/``False``, or numbers with nan as an empty cell."""
     if v.dtype == bool:
         return pa.array(np.where(v, "True", "False"), type=pa.large_string())
-    r = _rounded(v.astype(float))
+    v = v.astype(float)
+    if v.size and v[0] == v.min() == v.max():  # one value over the block (an input held, a ceiling)
+        return pa.repeat(pc.cast(pa.array(_rounded(v[:1])), pa.large_string())[0], v.size)
+    r = _rounded(v)
     return pc.fill_null(pc.cast(pa.array(r, mask=np.isnan(r)), pa.large_string()), "")
 
 
