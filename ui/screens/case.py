@@ -36,7 +36,7 @@ if st.session_state.get("restored_at"):
         _replace(("demo", 0))
         st.rerun()
 undo = st.session_state.get(state.UNDO)
-if st.session_state.get("just_replaced") and isinstance(undo, dict):
+if st.session_state.get("just_replaced") and isinstance(undo, dict) and not state.edited_since_loaded():
     u1, u2 = st.columns([3, 1])
     old_title = (undo.get("case") or {}).get("case", {}).get("title", "untitled")
     u1.success(f"Case replaced; the previous one (**{state.md_escape(old_title)}**) is kept aside.",
