@@ -583,6 +583,40 @@ def spread_note(case, path: str) -> str | None:
     return None
 
 
+# SI column suffix -> (display unit, factor): the unit scaled to the numbers a lab table holds
+_DISPLAY_UNITS = (("_mol_m2", "µmol/m²", 1e6), ("_mol_m3", "mM", 1.0), ("_N_m", "mN/m", 1e3),
+                  ("_m3_mol", "m³/mol", 1.0), ("_m3", "mL", 1e6), ("_m2", "m²", 1.0), ("_mol", "µmol", 1e6),
+                  ("_kg", "g", 1e3), ("_m", "µm", 1e6))
+
+
+def display_rows(rows: list[dict], digits: int = 4) -> list[dict]:
+    """Return lab-fit table rows with readable column names and units scaled to the numbers.
+
+    >>> display_rows([{"surface_excess_mol_m2": 2.05e-06, "sample": "A"}])
+    [{'surface excess [µmol/m²]': '2.05', 'sample': 'A'}]
+    """
+    out = []
+    for row in rows:
+        shown = {}
+        for key, value in row.items():
+            name, unit, factor = key.replace("_", " "), None, 1.0
+            for suffix, u, f in _DISPLAY_UNITS:
+                if key.endswith(suffix):
+                    name, unit, factor = key[: -len(suffix)].replace("_", " "), u, f
+                    break
+            if isinstance(value, bool) or value is None:
+                text = "" if value is None else ("yes" if value else "no")
+            elif isinstance(value, (int, float)):
+                text = str(value) if isinstance(value, int) and unit is None else f"{value * factor:.{digits}g}"
+            elif isinstance(value, (list, tuple)):
+                text = "; ".join(str(v) for v in value)
+            else:
+                text = str(value)
+            shown[f"{name} [{unit}]" if unit else name] = text
+        out.append(shown)
+    return out
+
+
 def fitted_plot_name(block_path: Path | str) -> str | None:
     """Return the plot file a fitted ``[surfactant]`` block names in ``[provenance] plot``."""
     try:

@@ -282,8 +282,11 @@ def test_depletion_runs_show_the_excess_and_its_fit():
     run(at)
     at.button(key="btn_depletion_fit").click()
     run(at)
-    spec = json.dumps([json.loads(c.proto.spec) for c in at.get("vega_lite_chart")])
-    assert "surface excess [umol/m**2]" in spec
+    spec = json.dumps([json.loads(c.proto.spec) for c in at.get("vega_lite_chart")], ensure_ascii=False)
+    assert "surface excess [µmol/m²]" in spec
+    table = at.dataframe[0].value
+    assert "surface excess [µmol/m²]" in table.columns  # scaled to the numbers (about 2), not 2e-06 mol/m**2
+    assert 0.1 < float(table["surface excess [µmol/m²]"].iloc[0]) < 100
 
 
 def test_every_shipped_demo_loads_from_the_case_page():

@@ -171,9 +171,10 @@ def _depletion_tab() -> None:
                 break
         st.altair_chart(charts.points_and_curve(pts, curve, "c_mM", "gamma_umol_m2",
                                                 "free concentration after equilibration [mM]",
-                                                "surface excess [umol/m**2]"), width="stretch",
+                                                "surface excess [µmol/m²]"), width="stretch",
                         key="chart_depletion")
-    st.dataframe(df, hide_index=True, width="stretch", key="table_depletion")
+    st.dataframe(pd.DataFrame(views.display_rows(res.rows)), hide_index=True, width="stretch",
+                 key="table_depletion")
     for note in res.notes:
         st.caption(note)
 
@@ -191,7 +192,8 @@ def _partition_tab() -> None:
     lo, hi = res.interval
     st.metric("Partition coefficient P", num(res.partition_coefficient, ""),
               help=f"95 % interval {num(lo, '')} to {num(hi, '')}; {res.method}")
-    st.dataframe(pd.DataFrame(res.rows), hide_index=True, width="stretch", key="table_partition")
+    st.dataframe(pd.DataFrame(views.display_rows(res.rows)), hide_index=True, width="stretch",
+                 key="table_partition")
     if st.button("Use this coefficient in the case", key="btn_use_partition"):
         state.put("surfactant.partition_coefficient", float(f"{res.partition_coefficient:.6g}"))
         st.session_state.pop(state.PREFIX + "surfactant.partition_coefficient", None)
