@@ -151,13 +151,17 @@ def points_and_curve(points: pd.DataFrame, curve: pd.DataFrame, x: str, y: str, 
 
 
 def residuals(df: pd.DataFrame, x: str, y: str, x_title: str, y_title: str, log_x: bool = True) -> alt.LayerChart:
-    """Residuals against x with a zero line."""
+    """Residuals against x with a zero line, on a y scale symmetric about zero with labelled ticks."""
     xs = alt.Scale(type="log") if log_x else alt.Scale()
-    pts = alt.Chart(df).mark_point(filled=True, color="#1f5f8b").encode(
-        x=alt.X(f"{x}:Q", scale=xs, title=x_title), y=alt.Y(f"{y}:Q", title=y_title),
+    values = pd.to_numeric(df[y], errors="coerce").abs()
+    top = float(values.max()) if values.notna().any() and float(values.max()) > 0 else 1.0
+    ys = alt.Scale(domain=[-1.2 * top, 1.2 * top], nice=True)
+    pts = alt.Chart(df).mark_point(filled=True, size=45, color="#1f5f8b").encode(
+        x=alt.X(f"{x}:Q", scale=xs, title=x_title),
+        y=alt.Y(f"{y}:Q", title=y_title, scale=ys, axis=alt.Axis(tickCount=5, format=".2~g", grid=True)),
         tooltip=[alt.Tooltip(f"{x}:Q", format=".4g"), alt.Tooltip(f"{y}:Q", format=".3g")])
-    zero = alt.Chart(pd.DataFrame({"z": [0.0]})).mark_rule(color="#888888").encode(y="z:Q")
-    return (pts + zero).properties(height=160)
+    zero = alt.Chart(pd.DataFrame({"z": [0.0]})).mark_rule(color="#888888").encode(y=alt.Y("z:Q", scale=ys))
+    return (pts + zero).properties(height=180)
 
 
 def histogram_from_bins(edges, counts, title: str, markers: dict[str, float]) -> alt.LayerChart:

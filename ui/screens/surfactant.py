@@ -114,7 +114,7 @@ def _tension_tab() -> None:
     st.altair_chart(charts.points_and_curve(pts, curve, "c_mM", "tension_mN_m", "concentration c [mM]",
                                             "tension [mN/m]"), width="stretch", key="chart_tension_fit")
     st.altair_chart(charts.residuals(pts, "c_mM", "residual_mN_m", "concentration c [mM]",
-                                     "residual, measured - fitted [mN/m]"), width="stretch",
+                                     "residual [mN/m]"), width="stretch",
                     key="chart_tension_res")
     block = fit.surfactant_block(res)["surfactant"]
     j = fit_json.tension_fit_json(res)
@@ -160,8 +160,13 @@ def _depletion_tab() -> None:
         return
     df = pd.DataFrame(res.rows)
     if {"continuous_concentration_mol_m3", "surface_excess_mol_m2"} <= set(df.columns):
-        pts = pd.DataFrame({"c_mM": df["continuous_concentration_mol_m3"],
-                            "gamma_umol_m2": df["surface_excess_mol_m2"] * 1e6})
+        fitted = [k for k, v in res.langmuir.items() if isinstance(v, dict) and "max_surface_excess_mol_m2" in v]
+        plotted = df[df["sample"].isin(fitted)] if fitted and "sample" in df.columns else df
+        if len(plotted) < len(df):  # a blank (salt only) would stretch the axis to its own concentration
+            st.caption("Plotted: the samples with a fitted isotherm; "
+                       f"{len(df) - len(plotted)} other row(s) (blanks) are in the table only.")
+        pts = pd.DataFrame({"c_mM": plotted["continuous_concentration_mol_m3"],
+                            "gamma_umol_m2": plotted["surface_excess_mol_m2"] * 1e6})
         curve = pd.DataFrame({"c_mM": [], "gamma_umol_m2": []})
         for lf in res.langmuir.values():
             line = views.depletion_curve(lf, float(pts["c_mM"].min()), float(pts["c_mM"].max()))
