@@ -219,3 +219,31 @@ def test_field_errors_name_the_field_in_words():
     at.text_input(key="f:drops.d32").set_value("-2 um")
     run(at)
     assert any("Sauter mean diameter d32" in e.value and "drops.d32" in e.value for e in at.error)
+
+
+def test_fit_errors_do_not_show_the_server_folder(tmp_path):
+    at = page("surfactant")
+    run(at)
+    bad = Path(os.environ["SIZING_WORKSPACES"]) / "bad_tension.csv"
+    bad.write_text("concentration [mM],tension [mN/m]\n1,x\n", encoding="utf-8")
+    at.session_state["tension_file"] = str(bad)
+    run(at)
+    at.button(key="btn_fit_tension").click()
+    run(at)
+    shown = " ".join(e.value for e in at.error)
+    assert shown and os.environ["SIZING_WORKSPACES"] not in shown, shown
+
+
+def test_monte_carlo_settings_show_the_case_after_the_case_page():
+    at = AppTest.from_file(str(ROOT / "ui" / "app.py"), default_timeout=60)
+    run(at)
+    at.switch_page("screens/case.py")
+    run(at)
+    at.selectbox(key="sel_demo").select(next(i for i, (_, p) in enumerate(views.demo_cases()) if p.name == MINI.name))
+    at.button(key="btn_demo").click()
+    run(at)
+    assert at.text_input(key="f:uncertainty.samples").value == "100000"
+    at.switch_page("screens/scaleup.py")
+    run(at)
+    assert at.text_input(key="f:uncertainty.samples").value == "100000"
+    assert at.text_input(key="f:uncertainty.seed").value == "7"

@@ -81,7 +81,7 @@ with st.container(border=True):
         try:
             data = state.case_from_upload(up.name, up.getvalue())
         except InputError as exc:
-            st.session_state["upload_error"] = str(exc)
+            st.session_state["upload_error"] = state.scrub(str(exc))
         else:
             st.session_state.pop("upload_error", None)
             state.set_case(data, f"uploaded {up.name}")

@@ -61,7 +61,7 @@ with left:
                 text = state.check_upload(up.name, up.getvalue(), (".csv",), "drops.file")
                 name = state.save_upload(up.name, text, read_size_table)
             except InputError as exc:
-                st.session_state["sizes_error"] = str(exc)
+                st.session_state["sizes_error"] = state.scrub(str(exc))
             else:
                 st.session_state.pop("sizes_error", None)
                 state.put("drops.file", name)
@@ -96,7 +96,7 @@ with right:
     try:
         curve = state.view("size_curve")
     except InputError as exc:
-        st.error(str(exc), icon=":material/error:")
+        st.error(state.scrub(str(exc)), icon=":material/error:")
         curve = None
     if curve is None:
         st.info("d32 is given directly: there is no distribution to plot. Choose a log-normal, RRSB or "

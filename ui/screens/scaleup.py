@@ -222,7 +222,7 @@ result = state.needs_valid_case()
 try:
     sc = state.view("scaleup_view")
 except InputError as exc:
-    st.error(str(exc), icon=":material/error:")
+    st.error(state.scrub(str(exc)), icon=":material/error:")
     sc = None
 if sc is not None:
     lo, hi = sc["plant_d32_band_m"]

@@ -67,7 +67,7 @@ def _upload(slot: str, label: str) -> str | None:
             text = state.check_upload(up.name, up.getvalue(), (".csv",), f"{slot} data")
             name = state.save_upload(up.name, text, lambda p: None)
         except SizingError as exc:
-            st.session_state[f"{slot}_error"] = str(exc)
+            st.session_state[f"{slot}_error"] = state.scrub(str(exc))
         else:
             st.session_state.pop(f"{slot}_error", None)
             st.session_state[f"{slot}_file"] = str(state.work_dir() / name)
@@ -100,7 +100,7 @@ def _tension_tab() -> None:
                                   model=None if model.startswith("best") else model)
         except SizingError as exc:  # a user mistake or a fit that did not converge
             st.session_state["tension_result"] = None
-            st.error(str(exc), icon=":material/error:")
+            st.error(state.scrub(str(exc)), icon=":material/error:")
         else:
             st.session_state["tension_result"] = res
     res = st.session_state.get("tension_result")
@@ -154,7 +154,7 @@ def _depletion_tab() -> None:
         try:
             st.session_state["depletion_result"] = fit.fit_depletion(path, continuous=cont)
         except SizingError as exc:  # a user mistake or a fit that did not converge
-            st.error(str(exc), icon=":material/error:")
+            st.error(state.scrub(str(exc)), icon=":material/error:")
     res = st.session_state.get("depletion_result")
     if not res:
         return
@@ -190,7 +190,7 @@ def _partition_tab() -> None:
         try:
             st.session_state["partition_result"] = fit.fit_partition(path)
         except SizingError as exc:  # a user mistake or a fit that did not converge
-            st.error(str(exc), icon=":material/error:")
+            st.error(state.scrub(str(exc)), icon=":material/error:")
     res = st.session_state.get("partition_result")
     if not res:
         return
