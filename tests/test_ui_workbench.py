@@ -247,3 +247,30 @@ def test_monte_carlo_settings_show_the_case_after_the_case_page():
     run(at)
     assert at.text_input(key="f:uncertainty.samples").value == "100000"
     assert at.text_input(key="f:uncertainty.seed").value == "7"
+
+
+# ---------------------------------------------------------------------------------------------
+# scenarios side by side
+
+
+def test_scenarios_in_one_table_and_one_chart():
+    at = run(page("compare", DEMOS / "lotion_o_w.toml"))
+    at.text_input(key="scenario_name").set_value("lab d32")
+    at.button(key="btn_keep_scenario").click()
+    run(at)
+    data = at.session_state["case_dict"]
+    data["drops"] = {"d32": "1 um"}
+    at.session_state["case_dict"] = data
+    run(at)
+    at.text_input(key="scenario_name").set_value("finer drops")
+    at.button(key="btn_keep_scenario").click()
+    run(at)
+    table = at.table[0].value
+    assert list(table.index) == ["lab d32", "finer drops"]
+    assert str(table.loc["finer drops", "d32 for the dose [µm]"]).startswith("◆")
+    from sizing.case import parse_case
+
+    fine = views.summary(parse_case(data, DEMOS))["dose"]["kg_product"]
+    shown = float(str(table.loc["finer drops", "product [kg/batch]"]).lstrip("◆ "))
+    assert shown == pytest.approx(fine, rel=5e-3)
+    assert at.get("vega_lite_chart")  # one dose-against-coverage chart

@@ -32,6 +32,7 @@ pages = [
     st.Page(str(HERE / "scaleup.py"), title="Scale-up and uncertainty", icon=":material/trending_up:",
             url_path="scaleup"),
     st.Page(str(HERE / "plan.py"), title="Plan", icon=":material/assignment:", url_path="plan"),
+    st.Page(str(HERE / "compare.py"), title="Scenarios", icon=":material/compare:", url_path="scenarios"),
 ]
 page = st.navigation(pages)
 state.ensure_case()

@@ -34,6 +34,7 @@ VERSION = "files_version"
 STASH = "case_stash"  # values of fields hidden by a switch (restored when switched back)
 PREFIX = "f:"
 UNDO = "case_undo"  # the case a replacement put aside: {"case", "source", "stash", "loaded"}
+SCENARIOS = "scenarios"  # named copies of the case dict, compared on the Scenarios page
 LOADED = "case_loaded"  # the case text as loaded (to tell whether it has been edited since)
 OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty", "process")
 
@@ -100,7 +101,7 @@ def _snapshot() -> dict:
     prev = st.session_state.get(UNDO)
     return {"version": 1, "case": st.session_state.get(CASE), "source": st.session_state.get(SOURCE),
             "stash": st.session_state.get(STASH, {}), "loaded": st.session_state.get(LOADED),
-            "undo": prev,
+            "undo": prev, "scenarios": st.session_state.get(SCENARIOS, {}),
             "lab_files": {k: Path(st.session_state[k]).name for k in LAB_SLOTS if st.session_state.get(k)}}
 
 
@@ -148,6 +149,8 @@ def restore_workspace() -> bool:
     st.session_state[BASE] = str(work_dir())
     if isinstance(data.get("undo"), dict):
         st.session_state[UNDO] = data["undo"]
+    if isinstance(data.get("scenarios"), dict):
+        st.session_state[SCENARIOS] = {str(k): v for k, v in data["scenarios"].items() if isinstance(v, dict)}
     for k, name in (data.get("lab_files") or {}).items():
         if k in LAB_SLOTS and isinstance(name, str) and (work_dir() / Path(name).name).is_file():
             st.session_state[k] = str(work_dir() / Path(name).name)
@@ -180,7 +183,7 @@ def switch_workspace(token: str) -> None:
         return
     save_workspace()
     for k in [k for k in st.session_state if isinstance(k, str) and (k.startswith(PREFIX) or k in (
-            CASE, UNDO, "_check", "_saved_body", "restored_at", *LAB_SLOTS))]:
+            CASE, UNDO, SCENARIOS, "_check", "_saved_body", "restored_at", *LAB_SLOTS))]:
         del st.session_state[k]
     st.session_state["ws_token"] = token
     st.query_params[WS_PARAM] = token
