@@ -43,8 +43,11 @@ def start_app(port: int) -> subprocess.Popen:
     import tempfile
 
     log = tempfile.TemporaryFile()  # a file, not a pipe: a full pipe buffer would stall the server
+    env = dict(os.environ)
+    # the workbench saves each session's case: a test server saves into a folder of its own
+    env.setdefault("SIZING_WORKSPACES", tempfile.mkdtemp(prefix="sizing-ws-browser-"))
     proc = subprocess.Popen(cmd + ["app", "--headless", "--port", str(port)],
-                            stdout=log, stderr=subprocess.STDOUT, start_new_session=True)
+                            stdout=log, stderr=subprocess.STDOUT, start_new_session=True, env=env)
     deadline = time.monotonic() + 60
     while time.monotonic() < deadline:
         if proc.poll() is not None:
