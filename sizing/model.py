@@ -546,10 +546,14 @@ def solve(inputs: Inputs, dose_mol=None) -> Solution:
     theta_max = balance.max_coverage(inputs.adsorption_constant, cmc, inputs.model, inputs.interaction)
     if dose_mol is None:
         mode = "target"
-        c, theta = target_concentration(inputs)
-        feasible = np.asarray(c <= cmc * (1 + 1e-12))
-        c_eq = np.where(feasible, c, np.where(np.isfinite(cmc), cmc, c))
-        th_eq = np.where(feasible, theta, theta_max)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            c, theta = target_concentration(inputs)
+        # a tension the equation of state reaches only at full coverage (a protein without a
+        # CMC, say): no finite monomer concentration gives it, so it is unreachable
+        beyond = ~np.isfinite(c) | (np.asarray(theta) >= 1.0)
+        feasible = np.asarray((c <= cmc * (1 + 1e-12)) & ~beyond)
+        c_eq = np.where(feasible, c, np.where(np.isfinite(cmc), cmc, np.where(beyond, 0.0, c)))
+        th_eq = np.where(feasible, theta, np.where(np.isfinite(cmc) | ~beyond, theta_max, 0.0))
         state = balance.state_at_concentration(c_eq, theta=th_eq, **kw)
         dose = np.where(feasible, state.total_mol, np.nan)
     else:

@@ -62,6 +62,12 @@ def unreachable_reason(max_coverage: float) -> str:
             f"cannot exceed {float(max_coverage):.4g}")
 
 
+EOS_UNREACHABLE = ("the equation of state cannot lower the tension to the target at any coverage below 1 "
+                   "(its surface pressure n R T Gamma_inf ln(1/(1 - theta)) is too small for this Gamma_inf); "
+                   "for proteins and polymers the small-molecule equation of state understates the lowering "
+                   "of the tension: use a coverage target (or a measured plateau tension) instead")
+
+
 def unreachable_options(max_coverage: float) -> tuple[str, ...]:
     """Return what an engineer can do when the target needs more than the CMC allows."""
     return (

@@ -15,7 +15,7 @@ from ..model import (
     storage_warnings,
 )
 from ..physics import phases
-from ..texts import unreachable_reason
+from ..texts import EOS_UNREACHABLE, unreachable_reason
 from .jsonify import json_number as _num
 
 
@@ -94,7 +94,9 @@ def solution_json(sol: Solution, case=None) -> dict:
         out["surfactant"]["name"] = case.active_name if case is not None else None
     out["warnings"] = solution_warnings(sol) + storage_notes
     if not feasible:
-        out["unreachable"] = unreachable_reason(float(sol.max_coverage))
+        eos = (sol.mode == "target" and i.target_kind == "tension" and i.blend is None
+               and not math.isfinite(float(np.asarray(i.cmc))))
+        out["unreachable"] = EOS_UNREACHABLE if eos else unreachable_reason(float(sol.max_coverage))
     return out
 
 

@@ -27,7 +27,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import model
-from ..texts import CAUTIONS, FIELD_LABELS, MODEL_ASSUMPTIONS, unreachable_options
+from ..errors import InputError
+from ..texts import (
+    CAUTIONS,
+    EOS_UNREACHABLE,
+    FIELD_LABELS,
+    MODEL_ASSUMPTIONS,
+    unreachable_options,
+    unreachable_reason,
+)
 from . import blendplan, parts
 from .blendplan import BlendPart
 from .kinetics import AdsorptionCheck
@@ -364,6 +372,14 @@ def _level_rows(case, sol: model.Solution, levels, charge_kg: float, increment: 
     return tuple(rows)
 
 
+def solution_json_reason(sol) -> str:
+    """Why a target solve is unreachable, in the words of the solve JSON (no outputs import here)."""
+    i = sol.inputs
+    if i.target_kind == "tension" and i.blend is None and not math.isfinite(_f(i.cmc)):
+        return EOS_UNREACHABLE
+    return unreachable_reason(_f(sol.max_coverage))
+
+
 def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61) -> Plan:
     """Plan a validated case: recommendation, trial matrix, chart data and assumptions.
 
@@ -394,6 +410,10 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
     kg_per_mol = _f(inputs.molar_mass) / _f(inputs.active_fraction)
     onset = _f(model.onset_dose_mol(inputs))
     ceiling_kg = onset * kg_per_mol if math.isfinite(onset) else math.nan
+    if not feasible and not math.isfinite(ceiling_kg):
+        reason = solution_json_reason(target_sol)
+        raise InputError(f"target.{inputs.target_kind}: the target is not reachable ({reason}), and without a "
+                         "CMC there is no ceiling dose to plan on; set a reachable target")
     base_kg = _f(target_sol.kg_product) if feasible else ceiling_kg
     # with spreads the charge covers the chosen percentile of the Monte Carlo
     mc = parts.plan_monte_carlo(case) if feasible else None
