@@ -265,6 +265,18 @@ def condition_warnings(case, temperature=None) -> list[str]:
     items = ([(case.surfactant.name, case.surfactant)] if case.surfactant is not None
              else [(comp.name, comp) for comp in case.blend.component])
     out = []
+    prov = case.provenance or {}
+    if case.surfactant is not None and case.surfactant.reference_temperature is None and prov.get("temperature"):
+        try:
+            t_fit = parse(str(prov["temperature"]), "provenance.temperature", "temperature")
+        except InputError:
+            t_fit = None
+        for where, t in temps:
+            if t_fit is not None and abs(t - t_fit) > 5.0:
+                out.append(f"the fitted constants (CMC, K) of {prov.get('file', 'the fitted block')} hold at "
+                           f"{t_fit - 273.15:.4g} degC and are used at the {where} temperature {t - 273.15:.4g} degC "
+                           "without a temperature law: give surfactant.reference_temperature with "
+                           "micellisation_enthalpy and adsorption_enthalpy to move them, or fit at that temperature")
     for name, s in items:
         for where, t in temps:
             if s.krafft_point is not None and s.krafft_point.si > t:

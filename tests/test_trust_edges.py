@@ -1,4 +1,5 @@
-"""Answers that hold at the edges (issue 14): a tension target the equation of state cannot reach.
+"""Answers that hold at the edges (issue 14): a tension target the equation of state cannot reach,
+fitted constants used at another temperature.
 
 A protein foam without a CMC and a 50 mN/m target: the Langmuir/Szyszkowski pressure
 n R T Gamma_inf ln(1/(1 - theta)) (Rosen and Kunjappu, Surfactants and Interfacial Phenomena, 4th
@@ -57,3 +58,10 @@ def test_the_cli_says_it_in_one_line(tmp_path):
     assert out.returncode == 2
     lines = out.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("error: target.tension") and "--dose" not in lines[0]
+
+
+def test_fitted_constants_used_at_another_temperature_warn_with_both(tmp_path):
+    text = (ROOT / "cases_demo" / "agro_ew_fitted.toml").read_text(encoding="utf-8")
+    case = loads_case(text.replace('temperature = "25 degC"', 'temperature = "70 degC"'), ROOT / "cases_demo")
+    w = solution_json(model.solve_case(case), case)["warnings"]
+    assert any("hold at 25 degC and are used at the batch temperature 70 degC" in x for x in w), w
