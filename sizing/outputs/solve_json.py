@@ -15,6 +15,7 @@ from ..model import (
     storage_warnings,
 )
 from ..physics import phases
+from ..planning.blendplan import component_charges
 from ..texts import EOS_UNREACHABLE, unreachable_reason
 from .jsonify import json_number as _num
 
@@ -100,44 +101,30 @@ def solution_json(sol: Solution, case=None) -> dict:
     return out
 
 
-def component_amounts(sol: Solution):
-    """Per-component dose of a scalar blend solution: ``(mol, kg_active, kg_product)`` arrays [mol, kg]."""
-    bi = sol.inputs.blend
-    alpha = np.asarray(bi.mole_fractions, dtype=float).reshape(-1)
-    n = float(np.asarray(sol.dose_mol, dtype=float).reshape(-1)[0])
-    mol = alpha * n
-    kg_active = mol * np.asarray(bi.molar_mass, dtype=float).reshape(-1)
-    return mol, kg_active, kg_active / np.asarray(bi.active_fraction, dtype=float).reshape(-1)
-
-
 def components_json(sol: Solution) -> list[dict]:
-    """The ``components`` list of a blend (case order): dose, free monomer, coverage and split."""
+    """The ``components`` list of a blend (case order): dose, free monomer, coverage and split.
+
+    Amounts and split come from :func:`sizing.planning.blendplan.component_charges` (one home);
+    the dose keys are null where the target is not reachable.
+    """
     bi, comp = sol.inputs.blend, sol.components
-    cont, disp = phases.phase_names(sol.inputs.system, sol.inputs.continuous)
     feasible = bool(np.all(sol.feasible))
-    mol, kg_a, kg_p = component_amounts(sol)
 
     def at(x, j):
         return _num(np.asarray(x, dtype=float).reshape(-1, bi.size)[0, j])
 
     out = []
-    for j, name in enumerate(bi.names):
-        split = {"water": 0.0, "oil": 0.0}
-        split[cont] = at(comp.continuous_mol, j)
-        if disp in split:
-            split[disp] = at(comp.dispersed_mol, j)
-        split["interface"] = at(comp.interface_mol, j)
-        split["micelles"] = at(comp.micelle_mol, j)
+    for j, c in enumerate(component_charges(sol, 0)):
         out.append({
-            "name": name,
-            "mole_fraction": at(bi.mole_fractions * np.ones(bi.size), j),
-            "dose_mol": _num(mol[j]) if feasible else None,
-            "kg_active": _num(kg_a[j]) if feasible else None,
-            "kg_product": _num(kg_p[j]) if feasible else None,
+            "name": c.name,
+            "mole_fraction": _num(c.mole_fraction),
+            "dose_mol": _num(c.mol) if feasible else None,
+            "kg_active": _num(c.kg_active) if feasible else None,
+            "kg_product": _num(c.kg_product) if feasible else None,
             "free_concentration_mol_m3": at(comp.free_concentration, j),
-            "coverage": at(comp.coverage, j),
+            "coverage": _num(c.coverage),
             "micelle_fraction": at(comp.micelle_fraction, j),
-            "split_mol": split,
+            "split_mol": {k: _num(v) for k, v in c.split_mol.items()},
         })
     return out
 
