@@ -135,3 +135,19 @@ def test_krafft_and_cloud_points_warn_in_every_solve():
     case = loads_case(CASE.format(t="70 degC", batch="", surf='cloud_point = "60 degC"'))
     w = solution_json(model.solve_case(case), case)["warnings"]
     assert any("cloud point 60 degC is below the batch temperature 70 degC" in x for x in w)
+
+
+def test_the_plan_shows_the_charge_across_temperatures():
+    from sizing.outputs.result_json import plan_json
+    from sizing.planning.plan import build_plan
+
+    case = loads_case(CASE.format(t="75 degC", batch='storage_temperature = "25 degC"', surf=CONDS))
+    plan = build_plan(case)
+    c = plan_json(plan)["conditions"]
+    # the storage point equals a direct solve of the charge at 25 degC (same phases and area)
+    stored = model.solve(model.case_inputs(case, {"batch.temperature": 298.15}),
+                         dose_mol=plan.recommendation.mol_per_batch)
+    assert c["storage_coverage"] == pytest.approx(float(stored.state.coverage), rel=1e-12)
+    k = np.interp(348.15, c["temperature_K"], c["coverage"])
+    assert k == pytest.approx(plan.recommendation.coverage_at_charge, rel=1e-3)  # the grid passes the batch
+    assert "Process and storage" in __import__("sizing").render_report(plan)

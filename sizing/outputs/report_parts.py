@@ -251,3 +251,35 @@ def render_blend(plan) -> str:
         body += text + chart(draw_cost, "Blend cost per batch for the target against the ratio (gaps: target "
                                         "not met at that ratio).")
     return section("blend", "The blend", body)
+
+
+def render_conditions(plan) -> str:
+    """Process and storage: the charge's coverage against temperature, batch to storage."""
+    c = plan.conditions
+    if c is None:
+        return ""
+
+    def draw(fig):
+        ax = fig.add_subplot()
+        t = c.temperature - 273.15
+        ax.plot(t, c.coverage, color="#1f5fa8", label="coverage of the charge")
+        ax.axhline(c.target_coverage, color="#c0392b", ls="--", lw=1, label=f"target {c.target_coverage:.3g}")
+        ax.axvline(c.batch_temperature - 273.15, color="#555", ls=":", lw=1,
+                   label=f"batch {c.batch_temperature - 273.15:.4g} °C")
+        if math.isfinite(c.storage_temperature):
+            ax.axvline(c.storage_temperature - 273.15, color="#7d3c98", ls="-.", lw=1,
+                       label=f"storage {c.storage_temperature - 273.15:.4g} °C")
+        ax.set_xlabel("temperature [°C]")
+        ax.set_ylabel("coverage theta [-]")
+        ax.set_ylim(0, 1)
+        ax.legend(fontsize=7)
+
+    rows = [("batch temperature", q(c.batch_temperature - 273.15, "°C"))]
+    if math.isfinite(c.storage_temperature):
+        rows += [("storage temperature", q(c.storage_temperature - 273.15, "°C")),
+                 ("coverage of the charge in storage", q(c.storage_coverage, "(-)"))]
+    body = table(rows) + chart(draw, "Coverage of the recommended charge against temperature, the phases and "
+                                     "the interfacial area held: K and the CMC move with the case's temperature "
+                                     "laws (none given: they stay as measured). Equilibrium estimate; confirm "
+                                     "stability by a storage test.")
+    return section("conditions", "Process and storage", body)

@@ -128,6 +128,13 @@ def plan_json(plan: Plan) -> dict:
         out["uncertainty"] = uncertainty_part_json(plan.case, plan.uncertainty)
     if plan.adsorption is not None:
         out["adsorption"] = adsorption_json(plan.adsorption)
+    if plan.conditions is not None:
+        c = plan.conditions
+        out["conditions"] = {
+            "temperature_K": [_num(x) for x in c.temperature], "coverage": [_num(x) for x in c.coverage],
+            "free_concentration_mol_m3": [_num(x) for x in c.free_concentration],
+            "cmc_mol_m3": [_num(x) for x in c.cmc], "batch_temperature_K": _num(c.batch_temperature),
+            "storage_temperature_K": _num(c.storage_temperature), "storage_coverage": _num(c.storage_coverage)}
     if plan.blend is not None:
         out["recommendation"]["components"] = [
             {"name": c.name, "kg_product": _num(c.kg_product), "kg_active": _num(c.kg_active), "mol": _num(c.mol),

@@ -214,3 +214,51 @@ def split_kg_active(sol: model.Solution, index: int = 0) -> dict:
     mm = np.asarray(i.blend.molar_mass, dtype=float).reshape(-1, i.blend.size)[0]
     return {k: float(sum(c.split_mol[k] * mm[j] for j, c in enumerate(component_charges(sol, index))))
             for k in ("water", "oil", "interface", "micelles")}
+
+
+@dataclass(frozen=True)
+class ConditionsPart:
+    """The charge across temperatures: from the batch to storage (``[batch] storage_temperature``).
+
+    Attributes
+    ----------
+    temperature : grid [K]; coverage, free_concentration [mol/m**3], cmc [mol/m**3] of the charge there
+    batch_temperature, storage_temperature : [K] (storage nan when not given)
+    storage_coverage : coverage of the charge at storage [-] (nan without a storage temperature)
+    target_coverage : the target's coverage [-]
+    """
+
+    temperature: np.ndarray
+    coverage: np.ndarray
+    free_concentration: np.ndarray
+    cmc: np.ndarray
+    batch_temperature: float
+    storage_temperature: float
+    storage_coverage: float
+    target_coverage: float
+
+
+def conditions_part(case, inputs: model.Inputs, mol_charge: float, target_coverage: float) -> ConditionsPart | None:
+    """Coverage of the charged dose against temperature, one vectorised solve (None without a
+    storage temperature or a temperature law in the case)."""
+    b = case.batch
+    items = [case.surfactant] if case.surfactant is not None else list(case.blend.component)
+    has_law = any(s.reference_temperature is not None for s in items)
+    if b.storage_temperature is None and not has_law:
+        return None
+    t_b = b.temperature.si
+    t_s = b.storage_temperature.si if b.storage_temperature is not None else math.nan
+    lo = min(t_b, t_s if math.isfinite(t_s) else t_b) - 10.0
+    hi = max(t_b, t_s if math.isfinite(t_s) else t_b) + 10.0
+    grid = np.linspace(lo, hi, 41)
+    moved = model.case_inputs(case, {"batch.temperature": grid}).with_values(d32=inputs.d32, volume=inputs.volume)
+    sol = model.solve(moved, dose_mol=np.full(grid.shape, mol_charge))
+    cov_s = math.nan
+    if math.isfinite(t_s):
+        at_s = model.case_inputs(case, {"batch.temperature": t_s}).with_values(d32=inputs.d32, volume=inputs.volume)
+        cov_s = _f(model.solve(at_s, dose_mol=mol_charge).state.coverage)
+    return ConditionsPart(temperature=grid, coverage=np.asarray(sol.state.coverage, dtype=float),
+                          free_concentration=np.asarray(sol.state.free_concentration, dtype=float),
+                          cmc=np.broadcast_to(np.asarray(moved.cmc, dtype=float), grid.shape).copy(),
+                          batch_temperature=t_b, storage_temperature=t_s, storage_coverage=cov_s,
+                          target_coverage=float(target_coverage))

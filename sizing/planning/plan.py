@@ -37,7 +37,7 @@ from ..texts import (
     unreachable_reason,
 )
 from . import blendplan, parts
-from .blendplan import BlendPart
+from .blendplan import BlendPart, ConditionsPart
 from .kinetics import AdsorptionCheck
 from .parts import AchievablePart, UncertaintyPart
 from .scaleup import ScaleupResult
@@ -213,6 +213,9 @@ class Plan:
         None without a diffusivity and a residence time (or when the target is unreachable)
     blend : the charge per component, interface composition, apparent CMC and cheapest ratio of a
         ``[blend]`` (:class:`sizing.planning.blendplan.BlendPart`), None for one surfactant
+    conditions : the charge's coverage against temperature, batch to storage
+        (:class:`sizing.planning.blendplan.ConditionsPart`), None without a storage temperature or a
+        temperature law
     """
 
     case: object
@@ -234,6 +237,7 @@ class Plan:
     uncertainty: UncertaintyPart | None = None
     adsorption: AdsorptionCheck | None = None
     blend: BlendPart | None = None
+    conditions: ConditionsPart | None = None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -480,6 +484,8 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
         uncertainty=parts.uncertainty_part(case, mc, rec.kg_product_per_batch) if mc is not None else None,
         adsorption=parts.adsorption_part(case, target_sol) if feasible else None,
         blend=blendplan.blend_part(case, inputs, fwd, curve) if inputs.blend is not None else None,
+        conditions=(blendplan.conditions_part(case, inputs, rec.mol_per_batch, _f(target_theta))
+                    if feasible else None),
     )
 
 
