@@ -55,8 +55,6 @@ from scipy.special import expit
 from ..constants import GAS_CONSTANT as R
 from .roots import bracketed_newton
 
-MICELLE_MODELS = ("ideal", "regular")
-
 
 def _quiet(fn):
     """Run ``fn`` with numpy's floating-point warnings off: trial steps far out in a bracket may
@@ -182,7 +180,7 @@ def _sub(b: _Batch, rows) -> _Batch:
 
 def _solve_w(b: _Batch, n):
     """Return ``w`` on flat rows for the doses ``n`` (flat) below the onset (no micelles)."""
-    alpha, k, veff, s = (x.reshape(-1, x.shape[-1]) for x in (b.alpha, b.k, b.veff, b.s))
+    alpha, k, veff, s = b.alpha, b.k, b.veff, b.s
     ka = k * alpha
     hi = n * np.sum(ka / veff, axis=-1)
     lo = np.zeros_like(hi)
@@ -202,8 +200,8 @@ def _solve_w(b: _Batch, n):
 
 def _n_of_w(b: _Batch, w, idx):
     """Dose [mol] that leaves ``w`` below the onset, and the Q_i there (flat rows ``idx``)."""
-    alpha, k = b.alpha.reshape(-1, b.alpha.shape[-1])[idx], b.k.reshape(-1, b.k.shape[-1])[idx]
-    q = (b.veff)[idx] + (b.s)[idx] * k / (1.0 + w)[:, None]
+    alpha, k = b.alpha[idx], b.k[idx]
+    q = b.veff[idx] + b.s[idx] * k / (1.0 + w)[:, None]
     return w / np.sum(k * alpha / q, axis=-1), q
 
 
@@ -213,8 +211,8 @@ def _n_of_w(b: _Batch, w, idx):
 
 def _two(b: _Batch, y, idx):
     """Monomer, D, Q and derivatives along x_1 = expit(y) for rows ``idx`` (two components)."""
-    c_m = (b.cmc)[idx]
-    k, s, veff = (b.k)[idx], (b.s)[idx], (b.veff)[idx]
+    c_m = b.cmc[idx]
+    k, s, veff = b.k[idx], b.s[idx], b.veff[idx]
     beta = b.beta.reshape(-1)[idx]
     x1, x2 = expit(y), expit(-y)
     f1, f2 = np.exp(beta * x2 * x2), np.exp(beta * x1 * x1)
@@ -245,7 +243,7 @@ def _onset_two(b: _Batch, rows):
     the root of ``ln(x_1 t_1 / alpha_1) - ln(x_2 t_2 / alpha_2)`` in ``y`` (increasing: the first
     term rises and the second falls with x_1 for beta < 2).
     """
-    alpha = (b.alpha)[rows]
+    alpha = b.alpha[rows]
     la1, la2 = np.log(alpha[:, 0]), np.log(alpha[:, 1])
 
     def fdf(y, idx):
@@ -272,7 +270,7 @@ def _onset_two(b: _Batch, rows):
 
 def _micellar_two(b: _Batch, n, rows):
     """Micellar states of two components for doses ``n`` on flat ``rows``: ``(c, x, n_mic)``."""
-    alpha = (b.alpha)[rows]
+    alpha = b.alpha[rows]
 
     def fdf(y, idx):
         t = _two(b, y, rows[idx])
@@ -313,7 +311,7 @@ def _micellar_two(b: _Batch, n, rows):
 
 def _onset_ideal(b: _Batch, rows):
     """Onset of ideal mixed micelles: ``sum_i c_i / C_i = 1`` along the no-micelle path, in ln w."""
-    alpha, k, veff, s, cmc = ((x)[rows] for x in (b.alpha, b.k, b.veff, b.s, b.cmc))
+    alpha, k, veff, s, cmc = (x[rows] for x in (b.alpha, b.k, b.veff, b.s, b.cmc))
     inv_c = np.where(np.isfinite(cmc), 1.0 / cmc, 0.0)
 
     def state(lw, idx):
@@ -355,7 +353,7 @@ def _micellar_ideal(b: _Batch, n, rows):
     Outer root ``mu = N_mic / N`` of ``sum_i c_i / C_i = 1``; inner root ``w`` of
     ``w = sum_i K_i c_i`` with ``c_i = alpha_i N / (Q_i(w) + N_mic / C_i)``.
     """
-    alpha, k, veff, s, cmc = ((x)[rows] for x in (b.alpha, b.k, b.veff, b.s, b.cmc))
+    alpha, k, veff, s, cmc = (x[rows] for x in (b.alpha, b.k, b.veff, b.s, b.cmc))
     inv_c = np.where(np.isfinite(cmc), 1.0 / cmc, 0.0)
 
     def inner(mu, idx):
@@ -407,7 +405,7 @@ def _micellar_ideal(b: _Batch, n, rows):
 def _onset(b: _Batch):
     """Return the onset dose [mol] and the rows' w there (inf where micelles never form), flat."""
     rows_all = np.arange(b.alpha.shape[0])
-    finite = np.isfinite((b.cmc))
+    finite = np.isfinite(b.cmc)
     any_finite = np.any(finite, axis=-1)
     n_on = np.full(rows_all.size, np.inf)
     if b.alpha.shape[-1] == 2:
@@ -423,7 +421,7 @@ def _onset(b: _Batch):
 
 
 def _use_two(b: _Batch, rows):
-    return b.alpha.shape[-1] == 2 and bool(np.all(np.isfinite((b.cmc)[rows])))
+    return b.alpha.shape[-1] == 2 and bool(np.all(np.isfinite(b.cmc[rows])))
 
 
 @_quiet
@@ -483,8 +481,8 @@ def mixed_cmc(fractions, cmc, micelles: str = "ideal", interaction=0.0):
         x = np.stack([expit(y), expit(-y)], axis=-1)
     else:
         n_on, _ = _onset_ideal(b, rows)
-        c_m = (b.cmc)
-        x = np.where(np.isfinite(c_m), (b.alpha) * n_on[:, None] / np.where(np.isfinite(c_m), c_m, 1.0), 0.0)
+        c_m = b.cmc
+        x = np.where(np.isfinite(c_m), b.alpha * n_on[:, None] / np.where(np.isfinite(c_m), c_m, 1.0), 0.0)
     return n_on.reshape(shape), x.reshape(shape + (b.alpha.shape[-1],))
 
 
