@@ -22,7 +22,7 @@ LAYERS = (
                     "sizing.files", "sizing.plausible", "sizing.labcsv")),
     ("physics", ("sizing.physics",)),
     ("fitting", ("sizing.fitting",)),
-    ("case", ("sizing.case",)),
+    ("case", ("sizing.case", "sizing.workspace_file", "sizing.library")),
     ("model", ("sizing.model",)),
     ("planning", ("sizing.planning",)),
     ("outputs", ("sizing.outputs",)),
