@@ -13,6 +13,7 @@ import csv
 import io
 import json
 import math
+import re
 import tomllib
 from pathlib import Path
 
@@ -21,6 +22,7 @@ import numpy as np
 from .case import read_size_table, table_path
 from .errors import InputError
 from .model import case_inputs, solve, solve_case, split_by_phase, target_concentration
+from .outputs.calibrate_json import calibration_html, calibration_json, updated_case_toml
 from .outputs.plan_files import build_outputs
 from .outputs.result_json import adsorption_json, scaleup_json, uncertainty_json
 from .outputs.solve_json import solution_json
@@ -28,6 +30,7 @@ from .physics import distribution
 from .physics.isotherm import theta_of_c
 from .planning import uncertainty
 from .planning.achievable import achievable_curve
+from .planning.calibrate import calibrate, read_trials
 from .planning.kinetics import adsorption_check
 from .planning.uncertainty import NOT_IN_DOSE, spread_quantiles
 from .texts import field_label, unreachable_explanation  # noqa: F401  (field_label: used by the workbench)
@@ -625,3 +628,228 @@ def fitted_plot_name(block_path: Path | str) -> str | None:
         return None
     plot = prov.get("plot")
     return plot if isinstance(plot, str) and "/" not in plot and "\\" not in plot else None
+
+
+# ---------------------------------------------------------------------------------------------
+# blends, process conditions and plant trials for the workbench (plain data; the engine computes)
+
+_COMPONENT_PATH = re.compile(r"^blend\.component\[(\d+)\](?:\.(\w+))?$")
+
+#: keys a single [surfactant] and a [[blend.component]] share (copied when one turns into the other)
+SHARED_ACTIVE_KEYS = ("name", "molar_mass", "active_fraction", "cmc", "max_surface_excess", "area_per_molecule",
+                      "adsorption_constant", "gibbs_prefactor", "partition_coefficient", "reference_temperature",
+                      "micellisation_enthalpy", "adsorption_enthalpy", "counterion_binding", "krafft_point",
+                      "cloud_point")
+#: the temperature and salt keys of a surfactant or blend component (issue 11)
+CONDITION_KEYS = ("reference_temperature", "micellisation_enthalpy", "adsorption_enthalpy", "counterion_binding",
+                  "krafft_point", "cloud_point")
+_PRICE = re.compile(r"^\s*([-+]?[0-9][0-9_]*\.?[0-9]*(?:[eE][-+]?[0-9]+)?)\s*([^\s/0-9][^/]*?)?\s*/\s*kg\s*$")
+
+
+def component_field_label(path: str, data: dict) -> str:
+    """Return a readable name of a blend component's field, naming the component.
+
+    >>> d = {"blend": {"component": [{"name": "anionic A"}, {"name": "nonionic B"}]}}
+    >>> component_field_label("blend.component[1].cmc", d)
+    "CMC of component 2 ('nonionic B')"
+    >>> component_field_label("blend.component[0]", d)
+    "component 1 ('anionic A')"
+    """
+    m = _COMPONENT_PATH.match(path)
+    if not m:
+        return field_label(path)
+    i, key = int(m.group(1)), m.group(2)
+    comps = (data.get("blend") or {}).get("component") or []
+    name = comps[i].get("name") if i < len(comps) and isinstance(comps[i], dict) else None
+    who = f"component {i + 1}" + (f" ({str(name)!r})" if name else "")
+    return f"{field_label('surfactant.' + key)} of {who}" if key else who
+
+
+def rescaled_fractions(fractions: list, index: int, value: float) -> list[float]:
+    """Return the blend fractions with ``fractions[index] = value`` and the others scaled to keep
+    their proportions, so that they add up to 1 (the same rule as a ratio sweep).
+
+    >>> rescaled_fractions([0.6, 0.4], 0, 0.7)
+    [0.7, 0.3]
+    >>> rescaled_fractions([0.5, 0.0, 0.0], 0, 0.4)
+    [0.4, 0.3, 0.3]
+    """
+    value = min(max(float(value), 0.0), 1.0)
+    rest = [float(f) for k, f in enumerate(fractions) if k != index]
+    total = sum(rest)
+    out = []
+    for k, f in enumerate(fractions):
+        if k == index:
+            out.append(value)
+        elif total > 0:
+            out.append(float(f) / total * (1.0 - value))
+        else:
+            out.append((1.0 - value) / max(len(rest), 1))
+    return [float(f"{x:.10g}") for x in out]
+
+
+def blend_of_surfactant(data: dict, second_name: str = "co-surfactant", share: float = 0.2) -> tuple[dict, list[str]]:
+    """Return a copy of a raw case whose ``[surfactant]`` becomes a two-component ``[blend]``, and notes.
+
+    The second component starts as a copy of the first (a blend of two equal components gives the
+    single surfactant's answer), at ``share`` of the active by mass, for the user to edit.
+
+    Raises
+    ------
+    InputError
+        No ``[surfactant]``, or one whose values come from a fitted file (``surfactant.from``).
+    """
+    out = case_copy(data)
+    s = out.pop("surfactant", None)
+    if not isinstance(s, dict):
+        raise InputError("surfactant: the case has no [surfactant] section to turn into a blend")
+    if s.get("from"):
+        raise InputError(f"surfactant.from: the values come from {s['from']!r}; copy them into the case "
+                         "(Surfactant page, Fit from lab data) before turning it into a blend")
+    notes = []
+    first = {k: s[k] for k in SHARED_ACTIVE_KEYS if k in s}
+    first["name"] = str(s.get("name") or "surfactant") or "surfactant"
+    if s.get("price_per_kg") is not None:
+        first["price"] = f"{s['price_per_kg']} {s.get('currency') or 'EUR'}/kg"
+    if str(s.get("isotherm", "langmuir")).lower() != "langmuir":
+        notes.append(f"the {s.get('isotherm')} isotherm became competitive Langmuir (blends use it)")
+    if s.get("diffusivity") is not None:
+        notes.append("the monomer diffusivity is left out (the adsorption-speed check is not modelled for blends)")
+    second = copy.deepcopy(first)
+    second["name"] = second_name if second_name != first["name"] else second_name + " 2"
+    first["fraction"] = float(f"{1.0 - share:.10g}")
+    second["fraction"] = float(share)
+    blend = {"name": f"{first['name']} with {second['name']}", "fractions": "mass", "micelles": "ideal",
+             "component": [first, second]}
+    if s.get("clean_tension") is not None:
+        blend["clean_tension"] = s["clean_tension"]
+    out["blend"] = blend
+    return out, notes
+
+
+def surfactant_of_blend(data: dict, index: int = 0) -> tuple[dict, list[str]]:
+    """Return a copy of a raw case whose ``[blend]`` becomes the single ``[surfactant]`` of one
+    component (``index``), and notes of what was left out.
+
+    Raises
+    ------
+    InputError
+        No ``[blend]`` with that component.
+    """
+    out = case_copy(data)
+    b = out.pop("blend", None)
+    comps = (b or {}).get("component") if isinstance(b, dict) else None
+    if not isinstance(comps, list) or not 0 <= index < len(comps) or not isinstance(comps[index], dict):
+        raise InputError(f"blend.component: no component {index + 1} to keep as the single surfactant")
+    c = comps[index]
+    s = {k: c[k] for k in SHARED_ACTIVE_KEYS if k in c}
+    s["name"] = str(c.get("name") or "surfactant")
+    s["isotherm"] = "langmuir"
+    price = c.get("price")
+    m = _PRICE.match(price) if isinstance(price, str) else None
+    if m:
+        s["price_per_kg"] = float(m.group(1).replace("_", ""))
+        if m.group(2):
+            s["currency"] = m.group(2).strip()
+    if isinstance(b.get("clean_tension"), (str, int, float, dict)):
+        s["clean_tension"] = b["clean_tension"]
+    out["surfactant"] = s
+    others = [str(x.get("name", f"component {k + 1}")) for k, x in enumerate(comps) if k != index and isinstance(x, dict)]
+    notes = [f"left out: {', '.join(others)}"] if others else []
+    if b.get("micelles") == "regular":
+        notes.append("the mixed-micelle interaction no longer applies")
+    return out, notes
+
+
+#: the trials CSV's columns as ``sizing calibrate`` reads them: (header, unit shown, what it holds)
+TRIAL_COLUMNS = (("batch", "-", "the batch's name or number"),
+                 ("charge [kg]", "kg", "product as delivered, per batch, as the plan states it"),
+                 ("d32 [um]", "µm", "Sauter mean diameter of the batch"),
+                 ("serum concentration [mM]", "mM", "free surfactant left in the continuous phase"),
+                 ("serum tension [mN/m]", "mN/m", "tension of the separated continuous phase"),
+                 ("stable", "yes/no", "after the storage test"),
+                 ("notes", "", "free text, not read"))
+
+
+def trials_csv(rows: list[dict]) -> str:
+    """Return a trials CSV (headers with units in brackets, as ``sizing calibrate`` reads it) from rows
+    keyed by :data:`TRIAL_COLUMNS` headers; empty cells stay empty (a missing measurement).
+
+    >>> print(trials_csv([{"batch": "P-1", "charge [kg]": 1.5, "stable": True}]).strip())
+    batch,charge [kg],d32 [um],serum concentration [mM],serum tension [mN/m],stable,notes
+    P-1,1.5,,,,yes,
+    """
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    heads = [h for h, _, _ in TRIAL_COLUMNS]
+    w.writerow(heads)
+    for r in rows:
+        if all(_blank(r.get(h)) for h in heads):
+            continue
+        cells = []
+        for h in heads:
+            v = r.get(h)
+            if _blank(v):
+                cells.append("")
+            elif isinstance(v, bool):
+                cells.append("yes" if v else "no")
+            elif isinstance(v, float):
+                cells.append(f"{v:.12g}")
+            else:
+                cells.append(str(v).strip())
+        w.writerow(cells)
+    return buf.getvalue()
+
+
+def _blank(v) -> bool:
+    return v is None or (isinstance(v, float) and not math.isfinite(v)) or (isinstance(v, str) and not v.strip())
+
+
+def trials_rows(path) -> list[dict]:
+    """Return the rows of a trials CSV as read by ``sizing calibrate``, keyed by :data:`TRIAL_COLUMNS`
+    (for an editor table: d32 in µm, concentrations in mM, tension in mN/m, stable as yes/no/None)."""
+    t = read_trials(path)
+    out = []
+    for j in range(t.charge_kg.size):
+        def val(x, scale=1.0):
+            return float(x) * scale if math.isfinite(float(x)) else None
+        out.append({"batch": t.batch[j], "charge [kg]": val(t.charge_kg[j]), "d32 [um]": val(t.d32[j], 1e6),
+                    "serum concentration [mM]": val(t.serum_concentration[j]),
+                    "serum tension [mN/m]": val(t.serum_tension[j], 1e3),
+                    "stable": None if not math.isfinite(t.stable[j]) else bool(t.stable[j]), "notes": ""})
+    return out
+
+
+def calibration_view(case, trials_path: str, digest: str = "", samples: int | None = None) -> dict:
+    """Return ``sizing calibrate CASE TRIALS.csv`` for a screen: ``result`` (its result.json),
+    ``updated_case`` (TOML text), ``report`` (report.html) and ``bands`` (rows for a prior against
+    posterior chart: ``path``, ``label``, ``which``, ``p10``, ``p50``, ``p90`` in display units, ``unit``).
+
+    ``digest`` names the file's content (the cache key of a screen); it is not read.
+
+    Raises
+    ------
+    InputError
+        From the trials file or the calibration (rows and columns named).
+    """
+    trials = read_trials(trials_path)
+    cal = calibrate(case, trials, samples=samples)
+    j = calibration_json(cal)
+    bands = []
+    quantities = case.quantities()
+    for path, post in j["posterior"].items():
+        dim = quantities[path].dimension if path in quantities else ("length" if path.endswith("d32") else
+                                                                      "dimensionless")
+        unit, scale = _SHOWN_UNITS.get(dim, ("", 1.0))
+        for which, b in (("prior", j["prior"][path]), ("posterior", post)):
+            bands.append({"path": path, "label": field_label(path), "which": which, "unit": unit,
+                          **{k: b[k] * scale for k in ("p10", "p50", "p90")}})
+    return {"result": j, "updated_case": updated_case_toml(case, cal, Path(trials_path).name),
+            "report": calibration_html(case, cal, j), "bands": bands}
+
+
+# dimension -> (unit as people write it, factor from SI)
+_SHOWN_UNITS = {"length": ("µm", 1e6), "concentration": ("mM", 1.0), "surface_excess": ("µmol/m²", 1e6),
+                "adsorption_constant": ("m³/mol", 1.0), "molar_mass": ("g/mol", 1e3), "volume": ("m³", 1.0),
+                "mass": ("kg", 1.0), "temperature": ("K", 1.0), "tension": ("mN/m", 1e3),
+                "density": ("kg/m³", 1.0), "dimensionless": ("", 1.0), "molar_energy": ("kJ/mol", 1e-3)}

@@ -277,14 +277,49 @@ def case_toml() -> str:
     return dumps_case(ensure_case())
 
 
+_ITEM = re.compile(r"^(\w+)\[(\d+)\]$")
+
+
+def _parent(data: dict, path: str, create: bool):
+    """Return the dict holding the last part of a nested path (``blend.component[0].cmc``) and its key."""
+    parts = path.split(".")
+    node = data
+    for part in parts[:-1]:
+        m = _ITEM.match(part)
+        if m:
+            items = node.get(m.group(1)) if isinstance(node, dict) else None
+            i = int(m.group(2))
+            if not isinstance(items, list) or i >= len(items) or not isinstance(items[i], dict):
+                return None, parts[-1]
+            node = items[i]
+        elif isinstance(node, dict):
+            if create and not isinstance(node.get(part), dict):
+                node[part] = {}
+            node = node.get(part)
+        if not isinstance(node, dict):
+            return None, parts[-1]
+    return node, parts[-1]
+
+
 def get(path: str, default=None):
+    if "[" in path or path.count(".") > 1:  # a key of a list item, e.g. blend.component[0].cmc
+        node, key = _parent(ensure_case(), path, False)
+        return default if node is None else node.get(key, default)
     section, _, key = path.partition(".")
     return ensure_case().get(section, {}).get(key, default)
 
 
 def put(path: str, value) -> None:
-    """Set (or, with None, remove) one ``section.key`` of the case dict."""
+    """Set (or, with None, remove) one ``section.key`` of the case dict (also ``blend.component[0].cmc``)."""
     data = ensure_case()
+    if "[" in path or path.count(".") > 1:
+        node, key = _parent(data, path, value is not None)
+        if node is not None:
+            if value is None:
+                node.pop(key, None)
+            else:
+                node[key] = value
+        return
     section, _, key = path.partition(".")
     if value is None:
         data.get(section, {}).pop(key, None)
@@ -441,6 +476,8 @@ def show_errors(path: str, where=None) -> None:
 
 def label_of(path: str) -> str:
     """Return the readable name of a case field or section (``drops.d32`` -> Sauter mean diameter d32)."""
+    if path.startswith("blend.component["):  # name the component, not its index
+        return views.component_field_label(path, ensure_case())
     return views.field_label(path) if "." in path else f"the {path} section"
 
 
@@ -539,11 +576,13 @@ def case_from_upload(name: str, data: bytes) -> dict:
         parsed = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"case file: {name!r} is not valid TOML ({exc})") from None
-    missing = [s for s in ("case", "batch", "drops", "surfactant", "target")
+    active = "blend" if isinstance(parsed.get("blend"), dict) else "surfactant"  # a blend has no [surfactant]
+    missing = [s for s in ("case", "batch", "drops", active, "target")
                if not isinstance(parsed.get(s), dict)]
     if missing:
         raise InputError(f"case file: {name!r} lacks the section(s) {', '.join('[' + m + ']' for m in missing)}; "
-                         "expected a case file with [case], [batch], [drops], [surfactant] and [target]")
+                         "expected a case file with [case], [batch], [drops], [surfactant] (or [blend]) "
+                         "and [target]")
     return parsed
 
 
