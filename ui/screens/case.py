@@ -1,10 +1,11 @@
 """Case: start from the demo, an uploaded case file or blank; edit the batch, target and trial; save."""
 
 import re
+from pathlib import Path
 
 import streamlit as st
 
-from sizing import views
+from sizing import views, workspace_file
 from sizing.errors import InputError
 from ui import state
 from ui.state import field
@@ -15,6 +16,8 @@ st.caption("Build the case: every value carries its unit as text (for example '2
            "Checks are the same as the command line's; a problem shows under its field.")
 
 PENDING = "pending_replace"  # ("demo", index) or ("blank", None) waiting for a yes
+PENDING_WS = "pending_workspace"  # (file name, Workspace) read from an uploaded workspace file, waiting for a yes
+PREV_SLOTS = "workspace_prev_lab_files"  # the lab files a restored workspace replaced (brought back by Undo)
 
 
 def _replace(want) -> None:
@@ -24,6 +27,34 @@ def _replace(want) -> None:
     else:
         data, folder = views.load_demo(demos[want[1]][1])
         state.set_case(data, "demo case" if want[1] == 0 else f"demo {demos[want[1]][1].name}", folder)
+    st.session_state["just_replaced"] = True
+    st.session_state.pop(PREV_SLOTS, None)
+
+
+def _workspace_zip() -> bytes:
+    """The working case, the files it names, the fits' lab CSVs and the scenarios as one zip."""
+    base = Path(st.session_state[state.BASE])
+    lab = {k: Path(st.session_state[k]).name for k in state.LAB_SLOTS
+           if st.session_state.get(k) and Path(st.session_state[k]).parent == base}
+    ws = workspace_file.collect(state.ensure_case(), base, extra=lab,
+                                scenarios=st.session_state.get(state.SCENARIOS, {}))
+    return workspace_file.pack(ws)
+
+
+def _restore(name: str, ws) -> None:
+    """Replace the case by a checked workspace (undoable): its files go into the case folder, its
+    scenarios are added to the kept ones (a name already kept gets ' (from the file)')."""
+    installed = workspace_file.install(ws, state.work_dir())
+    prev = {k: st.session_state.get(k) for k in state.LAB_SLOTS}
+    state.set_case(installed.case, f"workspace {name}")
+    st.session_state[PREV_SLOTS] = prev
+    for slot, rel in installed.lab_files.items():
+        if slot in state.LAB_SLOTS:
+            st.session_state[slot] = str(state.work_dir() / rel)
+    kept = st.session_state.setdefault(state.SCENARIOS, {})
+    for label, data in installed.scenarios.items():
+        key = label if label not in kept else f"{label} (from the file)"
+        kept[key] = data
     st.session_state["just_replaced"] = True
 
 
@@ -43,6 +74,13 @@ if st.session_state.get("just_replaced") and isinstance(undo, dict) and not stat
                icon=":material/swap_horiz:")
     if u2.button("Undo the replacement", key="btn_undo_replace", icon=":material/undo:"):
         state.undo_replace()
+        prev_slots = st.session_state.pop(PREV_SLOTS, None)
+        if isinstance(prev_slots, dict):  # a restored workspace also set the fits' lab files
+            for slot in state.LAB_SLOTS:
+                if prev_slots.get(slot):
+                    st.session_state[slot] = prev_slots[slot]
+                else:
+                    st.session_state.pop(slot, None)
         st.session_state.pop("just_replaced", None)
         st.rerun()
 with st.container(border=True):
@@ -86,6 +124,7 @@ with st.container(border=True):
             st.session_state.pop("upload_error", None)
             state.set_case(data, f"uploaded {up.name}")
             st.session_state["just_replaced"] = True
+            st.session_state.pop(PREV_SLOTS, None)
             st.rerun()
     if st.session_state.get("upload_error"):
         st.error(st.session_state["upload_error"] + " — the case being edited is unchanged.",
@@ -99,6 +138,49 @@ with st.container(border=True):
             if st.button("Open it (this one stays saved)", key="btn_open_workspace"):
                 state.switch_workspace(others[pick_ws]["token"])
                 st.rerun()
+
+with st.container(border=True):
+    w1, w2 = st.columns([2.6, 2])
+    w1.markdown("**The whole workspace in one file**: the case, the files it names (size table, fitted "
+                "surfactant block), the lab CSVs of the fits and the kept scenarios, as one .zip.")
+    slug_ws = re.sub(r"[^a-z0-9]+", "_", str(state.get("case.title") or "case").lower()).strip("_") or "case"
+    w1.download_button("Save the workspace (.zip)", data=_workspace_zip(), file_name=f"{slug_ws}_workspace.zip",
+                       mime="application/zip", key="dl_workspace", icon=":material/folder_zip:",
+                       help="open it again here (or on another computer) with 'Open a workspace file'")
+    up_ws = w2.file_uploader(f"Open a workspace file (.zip, at most {workspace_file.MAX_ZIP_BYTES // 2**20} MB)",
+                             type=["zip"], key="up_workspace")
+    if state.new_upload(up_ws, "workspace"):
+        try:
+            ws = workspace_file.unpack(up_ws.getvalue(), up_ws.name)
+            workspace_file.validate(ws)
+        except InputError as exc:
+            st.session_state["ws_upload_error"] = [state.scrub(line) for line in exc.problems]
+            st.session_state.pop(PENDING_WS, None)
+        else:
+            st.session_state.pop("ws_upload_error", None)
+            st.session_state[PENDING_WS] = (up_ws.name, ws)
+    if st.session_state.get("ws_upload_error"):
+        w2.error("The workspace file was refused; the case being edited is unchanged.\n\n"
+                 + "\n".join(f"- {state.md_escape(line)}" for line in st.session_state["ws_upload_error"]),
+                 icon=":material/error:")
+    pending_ws = st.session_state.get(PENDING_WS)
+    if pending_ws:
+        ws_name, ws = pending_ws
+        extra = f"; {len(ws.scenarios)} scenario(s) will be added to yours" if ws.scenarios else ""
+        w1.warning(f"Replace the case being edited (**{state.md_escape(state.get('case.title') or 'untitled')}**) "
+                   f"by the workspace **{state.md_escape(ws.title)}** from {state.md_escape(ws_name)} "
+                   f"({len(ws.files)} file(s){extra})? You can undo this afterwards.", icon=":material/help:")
+        k1, k2 = w1.columns(2)
+        if k1.button("Replace by the workspace", key="btn_confirm_workspace", type="primary"):
+            st.session_state.pop(PENDING_WS, None)
+            try:
+                _restore(ws_name, ws)
+            except (InputError, OSError) as exc:
+                st.session_state["ws_upload_error"] = [state.scrub(str(exc))]
+            st.rerun()
+        if k2.button("Keep my case", key="btn_cancel_workspace"):
+            st.session_state.pop(PENDING_WS, None)
+            st.rerun()
 
 result = state.check()
 if result["by_field"].get(""):
