@@ -270,3 +270,87 @@ def adsorption_panel(view: dict, where=None) -> None:
     else:
         where.success(f"Adsorption is fast enough: tau_D / t_res = {num(j['ratio'], '')} is at most "
                       f"{j['threshold']:g} ({figures}).", icon=":material/check_circle:")
+
+
+# ---------------------------------------------------------------------------------------------
+# blends, process conditions and plant trials
+
+
+def blend_interface(rows: list[dict], charge_kg: float | None = None) -> alt.LayerChart:
+    """Coverage held by each component against the blend's dose (rows ``dose_kg``, ``component``,
+    ``coverage``), the recommended charge marked."""
+    df = pd.DataFrame(rows)
+    line = alt.Chart(df).mark_line(strokeWidth=2).encode(
+        x=alt.X("dose_kg:Q", title="blend charge, product as delivered per batch [kg]"),
+        y=alt.Y("coverage:Q", title="share of the interface theta_i [-]", scale=alt.Scale(domain=[0, 1])),
+        color=alt.Color("component:N", title="component", sort=None, legend=alt.Legend(orient="bottom")),
+        tooltip=[alt.Tooltip("component:N"), alt.Tooltip("dose_kg:Q", title="charge [kg]", format=".4g"),
+                 alt.Tooltip("coverage:Q", title="coverage [-]", format=".3f")])
+    layers = line
+    if charge_kg is not None and math.isfinite(charge_kg):
+        layers = layers + _rule(charge_kg, f"recommended charge {sig(charge_kg, 3)} kg", "#555555")
+    return layers.properties(height=300)
+
+
+def blend_split(rows: list[dict]) -> alt.Chart:
+    """Stacked bars: where each component's active goes at the charge (rows ``component``, ``place``,
+    ``kg_active``, ``percent``)."""
+    df = pd.DataFrame(rows)
+    return alt.Chart(df).mark_bar().encode(
+        y=alt.Y("component:N", title=None, sort=None),
+        x=alt.X("kg_active:Q", title="active per batch at the charge [kg]", stack="zero"),
+        color=alt.Color("place:N", title="where", sort=["interface", "water", "oil", "micelles"],
+                        legend=alt.Legend(orient="bottom")),
+        tooltip=[alt.Tooltip("component:N"), alt.Tooltip("place:N", title="where"),
+                 alt.Tooltip("kg_active:Q", title="active [kg]", format=".3g"),
+                 alt.Tooltip("percent:Q", title="share of the component [%]", format=".1f")],
+    ).properties(height=max(110, 55 * df["component"].nunique() if len(df) else 110))
+
+
+def coverage_vs_temperature(curve: dict) -> alt.LayerChart:
+    """Coverage of the charged dose against temperature [°C], target, batch and storage marked
+    (``temperature_C``, ``coverage``, ``target_coverage``, ``batch_C``, ``storage_C``)."""
+    df = pd.DataFrame({"t": curve["temperature_C"], "coverage": curve["coverage"]})
+    df = df[df["coverage"].notna()]
+    line = alt.Chart(df).mark_line(color="#1f5f8b", strokeWidth=2).encode(
+        x=alt.X("t:Q", title="temperature [°C]", scale=alt.Scale(zero=False)),
+        y=alt.Y("coverage:Q", title="coverage of the charge theta [-]", scale=alt.Scale(zero=False)),
+        tooltip=[alt.Tooltip("t:Q", title="temperature [°C]", format=".1f"),
+                 alt.Tooltip("coverage:Q", title="coverage [-]", format=".3f")])
+    layers = line
+    if curve.get("target_coverage") is not None:
+        layers = layers + _rule(curve["target_coverage"], f"target {curve['target_coverage']:.3f}", "#2ca02c",
+                                axis="y")
+    layers = layers + _rule(curve["batch_C"], f"batch {sig(curve['batch_C'], 3)} °C", "#d62728")
+    if curve.get("storage_C") is not None:
+        layers = layers + _rule(curve["storage_C"], f"storage {sig(curve['storage_C'], 3)} °C", "#555555", row=1)
+    return layers.properties(height=300)
+
+
+def prior_posterior(rows: list[dict], x_title: str) -> alt.LayerChart:
+    """Prior and posterior bands of one learned input: p10 to p90 as a bar, p50 as a tick
+    (rows ``which``, ``p10``, ``p50``, ``p90``)."""
+    df = pd.DataFrame(rows)
+    y = alt.Y("which:N", title=None, sort=["prior", "posterior"])
+    color = alt.Color("which:N", legend=None, scale=alt.Scale(domain=["prior", "posterior"],
+                                                              range=["#9ecae1", "#1f5f8b"]))
+    tips = [alt.Tooltip("which:N", title="band"), alt.Tooltip("p10:Q", title="p10", format=".4g"),
+            alt.Tooltip("p50:Q", title="p50", format=".4g"), alt.Tooltip("p90:Q", title="p90", format=".4g")]
+    bars = alt.Chart(df).mark_bar(height=16).encode(
+        y=y, x=alt.X("p10:Q", title=x_title, scale=alt.Scale(zero=False)), x2="p90:Q", color=color, tooltip=tips)
+    mid = alt.Chart(df).mark_tick(color="#d62728", thickness=3, size=22).encode(y=y, x="p50:Q", tooltip=tips)
+    return (bars + mid).properties(height=90)
+
+
+def measured_vs_predicted(rows: list[dict], y_title: str) -> alt.Chart:
+    """Each trial's measured value against the posterior prediction (rows ``batch``, ``which``, ``value``)."""
+    df = pd.DataFrame(rows)
+    df = df[df["value"].notna()]
+    return alt.Chart(df).mark_point(filled=True, size=90).encode(
+        x=alt.X("batch:N", title="trial batch", sort=None),
+        y=alt.Y("value:Q", title=y_title, scale=alt.Scale(zero=False)),
+        shape=alt.Shape("which:N", title=None, sort=["measured", "predicted"], legend=alt.Legend(orient="bottom")),
+        color=alt.Color("which:N", title=None, sort=["measured", "predicted"],
+                        scale=alt.Scale(domain=["measured", "predicted"], range=["#d62728", "#1f5f8b"])),
+        tooltip=[alt.Tooltip("batch:N"), alt.Tooltip("which:N"), alt.Tooltip("value:Q", format=".4g")],
+    ).properties(height=240)
