@@ -3,13 +3,21 @@
 from __future__ import annotations
 
 import sys
+from dataclasses import replace
 
 import numpy as np
 
 from ..errors import InputError
 from ..fitting.block import fit_depletion, fit_partition, fit_tension, read_tension_csv, write_fitted_block
+from ..fitting.electrolyte import fit_electrolyte, rises_with_concentration
 from ..fitting.micelles import fit_interaction
-from ..outputs.fit_json import depletion_fit_json, interaction_fit_json, partition_fit_json, tension_fit_json
+from ..outputs.fit_json import (
+    depletion_fit_json,
+    electrolyte_fit_json,
+    interaction_fit_json,
+    partition_fit_json,
+    tension_fit_json,
+)
 from ..outputs.jsonify import dumps
 from ..physics.isotherm import area_from_surface_excess
 from ..physics.properties import water_surface_tension
@@ -25,11 +33,17 @@ def register(subparsers) -> None:
 
     t = sub.add_parser("tension", help="CMC and isotherm from a tension series",
                        description="Fit the CMC (a fitted breakpoint) and an isotherm to a tension "
-                                   "series: CSV with 'concentration [unit],tension [unit]'.")
+                                   "series: CSV with 'concentration [unit],tension [unit]'. A series "
+                                   "whose tension rises (a salt) is fitted as an electrolyte: tension "
+                                   "increment and negative surface excess.")
     t.add_argument("data", metavar="DATA.csv")
     t.add_argument("--temperature", help="e.g. '25 degC' (default: the file's temperature column)")
-    t.add_argument("--gibbs-prefactor", type=float, default=1.0,
-                   help="n of the Gibbs equation: 1 nonionic (default), 2 a 1:1 ionic without salt")
+    t.add_argument("--gibbs-prefactor", type=float, default=None,
+                   help="n of the Gibbs equation: 1 nonionic (default), 2 a 1:1 ionic without salt "
+                        "(and the default for --electrolyte: a 1:1 salt)")
+    t.add_argument("--electrolyte", action="store_true",
+                   help="the series is a salt's (tension rising with concentration): fit the tension "
+                        "increment and the negative surface excess (chosen by itself for a rising series)")
     t.add_argument("--model", choices=("langmuir", "frumkin", "volmer"),
                    help="use this isotherm (default: chosen by AICc)")
     g = t.add_mutually_exclusive_group()
@@ -78,12 +92,26 @@ def _warn(lines) -> None:
 def _tension(args) -> int:
     if args.bootstrap < 0:
         raise InputError(f"--bootstrap: expected a number of refits >= 0, got {args.bootstrap}")
-    data = read_tension_csv(args.data)
+    data = None
+    if not args.electrolyte and args.model is None:
+        try:  # a salt's series may start at a salt-free blank (0): read leniently to recognise it
+            lenient = read_tension_csv(args.data, electrolyte=True)
+        except InputError:
+            lenient = None  # the strict read below names the problems
+        if lenient is not None and rises_with_concentration(lenient.concentration, lenient.tension):
+            data = lenient
+    if data is None:
+        data = read_tension_csv(args.data, electrolyte=args.electrolyte)
     temperature = parse(args.temperature, "--temperature", "temperature") if args.temperature else None
     clean = parse(args.clean_tension, "--clean-tension", "tension") if args.clean_tension else None
     if args.interface == "air-water":
         clean = float(water_surface_tension(temperature or data.temperature or 298.15))
-    fit = fit_tension(data, temperature=temperature, gibbs_prefactor=args.gibbs_prefactor,
+    auto = (not args.electrolyte and args.model is None
+            and rises_with_concentration(data.concentration, data.tension))
+    if args.electrolyte or auto:
+        return _electrolyte(args, data, temperature, clean, auto)
+    fit = fit_tension(data, temperature=temperature,
+                      gibbs_prefactor=1.0 if args.gibbs_prefactor is None else args.gibbs_prefactor,
                       model=args.model, clean_tension=clean, bootstrap=args.bootstrap, seed=args.seed)
     written = write_fitted_block(fit, args.out, name=args.name) if args.out else None
     if args.json:
@@ -97,6 +125,57 @@ def _tension(args) -> int:
             print(f"wrote {written[0]} and {written[1]}")
     _warn(fit.warnings)
     return 0
+
+
+def _electrolyte(args, data, temperature, clean, auto) -> int:
+    """``fit tension`` on a salt's series: the tension increment and the negative surface excess."""
+    refused = [(opt, given) for opt, given in (("--model", args.model), ("--bootstrap", args.bootstrap),
+                                               ("--out", args.out), ("--name", args.name)) if given]
+    if refused:
+        opt = refused[0][0]
+        why = ("the tension rises with concentration, so the series was read as an electrolyte's"
+               if auto else "--electrolyte was given")
+        raise InputError(f"{opt}: not used for an electrolyte ({why}): a salt has no isotherm, CMC or "
+                         "[surfactant] block; expected the option without it, or a surfactant's series")
+    fit = fit_electrolyte(data, temperature=temperature,
+                          gibbs_prefactor=2.0 if args.gibbs_prefactor is None else args.gibbs_prefactor,
+                          clean_tension=clean)
+    if auto:
+        fit = replace(fit, notes=("the tension rises with concentration: fitted as an electrolyte "
+                                  "(negative adsorption); give --electrolyte to say so, or --model to "
+                                  "force an isotherm",) + fit.notes)
+    if args.json:
+        print(dumps(electrolyte_fit_json(fit)))
+    else:
+        print(_electrolyte_text(fit))
+    _warn(fit.warnings)
+    return 0
+
+
+def _electrolyte_text(fit) -> str:
+    per_l = 1e6  # N/m per mol/m**3 -> mN/m per mol/L
+    k, (klo, khi) = fit.tension_increment, fit.tension_increment_interval
+    d, (dlo, dhi) = fit.depletion_thickness, fit.depletion_thickness_interval
+    g0, (glo, ghi) = fit.clean_tension, fit.clean_tension_interval
+    lines = [f"{fit.path}: {int(fit.counts.sum())} points at {fit.concentration.size} concentrations, "
+             f"{fit.temperature - 273.15:.4g} degC, n = {fit.gibbs_prefactor:g} (electrolyte: negative adsorption)",
+             "", f"{'quantity':<28}{'value':>22}   95 % interval",
+             f"{'tension increment':<28}{sig(k * per_l, 4) + ' mN/m per mol/L':>22}   "
+             f"{sig(klo * per_l, 3)} to {sig(khi * per_l, 3)} mN/m per mol/L",
+             f"{'clean tension':<28}{format_si(g0, 'tension', 'mN/m', 5):>22}   "
+             + ("(fixed)" if fit.clean_tension_fixed else
+                f"{format_si(glo, 'tension', 'mN/m', 4)} to {format_si(ghi, 'tension', 'mN/m', 4)}"),
+             f"{'depleted layer -Gamma/c':<28}{format_si(d, 'length', 'nm', 4):>22}   "
+             f"{format_si(dlo, 'length', 'nm', 3)} to {format_si(dhi, 'length', 'nm', 3)}",
+             "", f"{'concentration':>16}{'rows':>6}{'mean tension':>15}{'surface excess (Gibbs)':>26}   95 % interval"]
+    for c, m, g, e, (elo, ehi) in zip(fit.concentration, fit.counts, fit.mean_tension, fit.surface_excess,
+                                      fit.surface_excess_interval):
+        lines.append(f"{format_si(c, 'concentration', 'mM', 4):>16}{int(m):>6}{format_si(g, 'tension', 'mN/m', 5):>15}"
+                     f"{format_si(e, 'surface_excess', 'umol/m**2', 4):>26}   "
+                     f"{format_si(elo, 'surface_excess', 'umol/m**2', 3)} to {format_si(ehi, 'surface_excess', 'umol/m**2', 3)}")
+    lines += ["", "Gamma = -(c / (n R T)) d gamma/d c: negative, the salt is depleted near the interface"]
+    lines += [f"note: {n}" for n in fit.notes]
+    return "\n".join(lines)
 
 
 def _tension_text(fit) -> str:

@@ -244,7 +244,7 @@ class TensionFit:
         return self.fits[self.model]
 
 
-def read_tension_csv(path) -> TensionData:
+def read_tension_csv(path, *, electrolyte: bool = False) -> TensionData:
     """Read and check a tension series ``concentration [unit], tension [unit]``.
 
     Parameters
@@ -252,6 +252,9 @@ def read_tension_csv(path) -> TensionData:
     path : str or Path
         CSV with a header naming each column with its unit in brackets; optional columns
         ``temperature [unit]``, ``replicate``, ``notes``.
+    electrolyte : bool
+        The series of a salt (:mod:`sizing.fitting.electrolyte`): a salt-free row at
+        concentration 0 is accepted and four rows are enough.
 
     Returns
     -------
@@ -300,7 +303,11 @@ def read_tension_csv(path) -> TensionData:
         for i in np.flatnonzero(~np.isfinite(arr)):
             problems.append(f"{p}: row {i + 2}, column {labels[name]!r}: the cell is empty; "
                             f"expected a number")
-    for i in np.flatnonzero(np.isfinite(c) & (c <= 0)):
+    for i in np.flatnonzero(np.isfinite(c) & ((c < 0) if electrolyte else (c <= 0))):
+        if electrolyte:
+            problems.append(f"{p}: row {i + 2}, column {labels['concentration']!r}: {c[i]:g} mol/m**3 "
+                            "is negative; expected a concentration >= 0")
+            continue
         problems.append(
             f"{p}: row {i + 2}, column {labels['concentration']!r}: {c[i]:g} mol/m**3 is not "
             "positive; expected a concentration > 0 (the series is fitted against log "
@@ -325,7 +332,10 @@ def read_tension_csv(path) -> TensionData:
                 "concentrations, or a 'replicate' column numbering repeated measurements")
     if problems:
         raise InputError(problems=problems)
-    if len(c) < MIN_BELOW + MIN_ABOVE:
+    if electrolyte and len(c) < 4:
+        raise InputError(f"{p}: {len(c)} data rows; expected at least 4 for a tension increment "
+                         "with an interval (three concentrations and one degree of freedom)")
+    if not electrolyte and len(c) < MIN_BELOW + MIN_ABOVE:
         raise InputError(f"{p}: {len(c)} data rows; expected at least {MIN_BELOW + MIN_ABOVE} "
                          f"({MIN_BELOW} below the CMC and {MIN_ABOVE} above it)")
     notes = [f"warning: {w}" for w in getattr(table, "warnings", ())]  # values outside their usual range

@@ -12,6 +12,7 @@ import numpy as np
 
 from ..fitting.depletion import CONFIDENCE as DEPLETION_CONFIDENCE
 from ..fitting.depletion import DepletionFit
+from ..fitting.electrolyte import CONFIDENCE as ELECTROLYTE_CONFIDENCE
 from ..fitting.partition import CONFIDENCE as PARTITION_CONFIDENCE
 from ..fitting.partition import PartitionFit
 from ..fitting.tension import CONFIDENCE as TENSION_CONFIDENCE
@@ -120,3 +121,40 @@ def interaction_fit_json(fit) -> dict:
                         "cmc_1_mol_m3": fit.cmc_1, "cmc_2_mol_m3": fit.cmc_2, "rms_ln_cmc": fit.rms_ln,
                         "synergism": fit.synergism, "rows": fit.rows, "model": "regular solution (Rubingh 1979)",
                         "source": fit.path, "notes": list(fit.notes)})
+
+
+def electrolyte_fit_json(fit) -> dict:
+    """Return the plain data printed by ``sizing fit tension --json`` for an electrolyte.
+
+    Keys: ``kind`` (``"electrolyte"``), ``tension_increment_N_m_per_mol_m3`` (d gamma/d c) with
+    its interval and standard error, ``clean_tension_N_m`` with its interval and
+    ``clean_tension_fitted``, ``concentration_mol_m3`` (the distinct concentrations) with
+    ``surface_excess_mol_m2`` (negative, Gibbs) and ``surface_excess_interval_mol_m2`` at each,
+    ``depletion_thickness_m`` (-Gamma/c) with its interval, ``temperature_K``,
+    ``gibbs_prefactor``, ``confidence``, ``n_points``, ``residuals_N_m``, ``residual_sd_N_m``,
+    ``source``, ``notes``, ``warnings``.
+    """
+    r = np.asarray(fit.residuals, dtype=float)
+    return to_jsonable({
+        "kind": "electrolyte",
+        "tension_increment_N_m_per_mol_m3": fit.tension_increment,
+        "tension_increment_interval_N_m_per_mol_m3": list(fit.tension_increment_interval),
+        "tension_increment_standard_error_N_m_per_mol_m3": fit.tension_increment_se,
+        "clean_tension_N_m": fit.clean_tension,
+        "clean_tension_interval_N_m": list(fit.clean_tension_interval),
+        "clean_tension_fitted": not fit.clean_tension_fixed,
+        "concentration_mol_m3": [float(x) for x in fit.concentration],
+        "surface_excess_mol_m2": [float(x) for x in fit.surface_excess],
+        "surface_excess_interval_mol_m2": [[float(a), float(b)] for a, b in fit.surface_excess_interval],
+        "depletion_thickness_m": fit.depletion_thickness,
+        "depletion_thickness_interval_m": list(fit.depletion_thickness_interval),
+        "temperature_K": fit.temperature,
+        "gibbs_prefactor": fit.gibbs_prefactor,
+        "confidence": ELECTROLYTE_CONFIDENCE,
+        "n_points": int(r.size),
+        "residuals_N_m": [float(x) for x in r],
+        "residual_sd_N_m": float(np.sqrt(np.sum(r * r) / fit.dof)),
+        "source": fit.path,
+        "notes": list(fit.notes),
+        "warnings": list(fit.warnings),
+    })
