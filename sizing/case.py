@@ -37,6 +37,7 @@ from .labcsv import read_lab_csv
 from .physics import distribution
 from .physics.dropsize import RULES, VARIABLES
 from .physics.isotherm import MODELS
+from .texts import ADSORPTION_CONSTANT_HINT
 from .units import DIMENSIONS, parse_value
 
 # ---------------------------------------------------------------------------------------------
@@ -279,7 +280,8 @@ class CaseInfo(Section):
 class Batch(Section):
     volume: Q("volume", gt=0) | None = None
     mass: Q("mass", gt=0) | None = None
-    dispersed_fraction: Fraction01
+    dispersed_fraction: Fraction01 | None = None  # the VOLUME fraction phi of drops or bubbles
+    dispersed_mass_fraction: Fraction01 | None = None  # a recipe's share by mass, turned into phi
     temperature: Q("temperature", gt=0) = Field(default_factory=lambda: Value(298.15, "25 degC", "temperature"))
     continuous_density: Q("density", gt=0) | None = None
     dispersed_density: Q("density", gt=0) | None = None
@@ -292,7 +294,41 @@ class Batch(Section):
             raise ValueError("give the batch size as exactly one of volume (e.g. '2 m**3') or mass (e.g. '2000 kg')")
         if self.mass is not None and (self.continuous_density is None or self.dispersed_density is None):
             raise ValueError("a batch given by mass needs continuous_density and dispersed_density")
+        given = [k for k in ("dispersed_fraction", "dispersed_mass_fraction") if getattr(self, k) is not None]
+        if len(given) != 1:
+            raise ValueError(_FRACTION_CHOICE.format(given=", ".join(given) if given else "none"))
+        w = self.dispersed_mass_fraction
+        if w is not None:
+            example = {"dispersed_density": "dispersed_density (e.g. '850 kg/m**3' for an oil)",
+                       "continuous_density": "continuous_density (e.g. '997 kg/m**3' for water)"}
+            missing = [example[k] for k in example if getattr(self, k) is None]
+            if missing:
+                raise ValueError(f"dispersed_mass_fraction: {w.raw!r} is a mass fraction; turning it into the "
+                                 f"volume fraction phi needs {' and '.join(missing)}")
+            if w.spread is not None:
+                raise ValueError(f"dispersed_mass_fraction: a spread is not converted to the volume fraction; "
+                                 f"give the spread on dispersed_fraction (the volume fraction phi), got {w.raw!r}")
+            phi = volume_fraction(w.si, self.dispersed_density.si, self.continuous_density.si)
+            object.__setattr__(self, "dispersed_fraction", Value(phi, w.raw, "dimensionless"))
         return self
+
+
+_FRACTION_CHOICE = ("give the share of the dispersed phase as exactly one of dispersed_fraction (the VOLUME "
+                    "fraction phi of drops or bubbles, e.g. 0.2) or dispersed_mass_fraction (the mass fraction "
+                    "of a recipe, e.g. 0.3, with continuous_density and dispersed_density); got {given}")
+
+
+def volume_fraction(mass_fraction: float, dispersed_density: float, continuous_density: float) -> float:
+    """Return the volume fraction phi of a dispersed phase given by mass (ideal mixing of the phases).
+
+    phi = (w / rho_d) / (w / rho_d + (1 - w) / rho_c): 30 % oil by mass at 850 kg/m**3 in water at
+    1000 kg/m**3 is 33.5 % by volume.
+
+    >>> round(volume_fraction(0.3, 850.0, 1000.0), 4)
+    0.3352
+    """
+    vd = mass_fraction / dispersed_density
+    return vd / (vd + (1.0 - mass_fraction) / continuous_density)
 
 
 class Drops(Section):
@@ -332,6 +368,113 @@ class Drops(Section):
         return self
 
 
+# ---------------------------------------------------------------------------------------------
+# a CMC as a datasheet gives it: mol/m**3 (mM), or by mass (g/L, wt%, ppm), turned into mol/m**3
+# by the case (:func:`_cmc_to_molar`) with the molar mass and, for a mass fraction, the density
+# of the continuous phase
+
+_MASS_FRACTION_UNITS = {"wt%": 1e-2, "wt.%": 1e-2, "%w/w": 1e-2, "%(w/w)": 1e-2, "ppm": 1e-6, "ppmw": 1e-6,
+                        "ppmw/w": 1e-6, "ppm(w/w)": 1e-6, "mg/kg": 1e-6, "g/kg": 1e-3}
+_UNIT_TAIL = re.compile(r"^\s*(\S+?)\s*((?:wt\.?\s*%|%\s*\(?w/w\)?|ppm\s*\(?w?/?w?\)?|mg/kg|g/kg))\s*$",
+                        re.IGNORECASE)
+CMC_UNITS_TEXT = ("a concentration such as '8.2 mM' or '8.2 mol/m**3', a mass concentration such as "
+                  "'2.4 g/L', or a mass fraction of the solution such as '0.24 wt%' or '2400 ppm'")
+
+
+def _mass_basis_one(text) -> tuple[float, str] | None:
+    """``"0.24 wt%"`` -> ``(0.0024, "mass_fraction")``, ``"2.4 g/L"`` -> ``(2.4, "mass_concentration")``."""
+    if not isinstance(text, str):
+        return None
+    m = _UNIT_TAIL.match(text)
+    if m:
+        unit = re.sub(r"\s+", "", m.group(2)).lower()
+        if unit not in _MASS_FRACTION_UNITS:
+            raise ValueError(f"expected {CMC_UNITS_TEXT}, got {text!r}")
+        return parse_value(m.group(1), "dimensionless") * _MASS_FRACTION_UNITS[unit], "mass_fraction"
+    try:
+        parse_value(text, "concentration")
+        return None  # a molar concentration: the usual path
+    except ValueError:
+        pass
+    try:
+        return parse_value(text, "density"), "mass_concentration"  # kg/m**3 = g/L
+    except ValueError:
+        return None
+
+
+def _datasheet_cmc(v):
+    """Keep a CMC given by mass as a ``Value`` of dimension ``mass_fraction`` or ``mass_concentration``."""
+    if isinstance(v, Value):
+        return v
+    if isinstance(v, str) and v.strip().endswith("%") and _UNIT_TAIL.match(v) is None:
+        raise ValueError(f"'%' alone does not say the basis; write wt% (mass of surfactant per mass of "
+                         f"solution) or give {CMC_UNITS_TEXT}, got {v!r}")
+    texts = [v] if not isinstance(v, dict) else [v.get(k) for k in ("value", "low", "high") if k in v]
+    read = [_mass_basis_one(t) for t in texts]
+    if not read or all(r is None for r in read):
+        return v  # the usual molar path (or its error)
+    if any(r is None for r in read) or len({r[1] for r in read}) > 1:
+        raise ValueError(f"value, low and high must have the same kind of unit, got {v!r}")
+    if any(not r[0] > 0 for r in read):
+        raise ValueError(f"expected a value > 0, got {v!r}")
+    dim = read[0][1]
+    if not isinstance(v, dict):
+        return Value(read[0][0], v, dim)
+    if "rel_sd" in v:
+        rel = v["rel_sd"]
+        if isinstance(rel, bool) or not isinstance(rel, (int, float)) or not (0 <= rel <= 3):
+            raise ValueError(f"rel_sd: expected a number from 0 to 3 (a coefficient of variation), got {rel!r}")
+        return Value(read[0][0], v, dim, ("lognormal", float(rel)))
+    if len(read) != 3 or not read[1][0] <= read[0][0] <= read[2][0] or not read[1][0] < read[2][0]:
+        raise ValueError(f"expected low < high with value between them, or rel_sd, got {v!r}")
+    return Value(read[0][0], v, dim, ("uniform", read[1][0], read[2][0]))
+
+
+# before-validators run last-first: the mass-basis reading runs before the molar one
+CMC = Annotated[Value, _quantity(("concentration",), gt=0), BeforeValidator(_datasheet_cmc)]
+
+
+def _cmc_to_molar(section, where: str, continuous_density: Value | None) -> None:
+    """Turn a CMC given by mass into mol/m**3 in place (a section's ``cmc``; raises ValueError).
+
+    A mass concentration rho_s (g/L = kg/m**3) gives c = rho_s / M; a mass fraction w of the
+    solution (wt%, ppm: mass of surfactant per mass of solution) gives c = w rho / M, with rho the
+    density of the continuous phase (a solution at CMC levels is the solvent's density).  Both are
+    of the active surfactant, not of the product as delivered.
+    """
+    v = section.cmc
+    if v is None or v.dimension == "concentration":
+        return
+    m = section.molar_mass.si
+    if v.dimension == "mass_fraction":
+        if continuous_density is None:
+            raise ValueError(f"{where}.cmc: {_describe(v)} is a mass fraction (mass of surfactant per "
+                             "mass of solution); turning it into mol/m**3 needs batch.continuous_density, the "
+                             "density of the continuous phase (e.g. '997 kg/m**3' for water)")
+        factor = continuous_density.si / m
+    else:
+        factor = 1.0 / m
+    spread = v.spread
+    if spread is not None and spread[0] == "uniform":
+        spread = ("uniform", spread[1] * factor, spread[2] * factor)
+    si = v.si * factor
+    try:
+        plausible.check(f"{where}.cmc", si, "concentration")
+    except InputError as exc:
+        raise ValueError(f"{exc} (from {_describe(v)} with molar_mass {section.molar_mass.raw!r})") from None
+    object.__setattr__(section, "cmc", Value(si, v.raw, "concentration", spread))
+
+
+def _price_text(v):
+    """A price written with its currency (``"1.2 EUR/kg"``) as a ``Value`` of dimension ``price``."""
+    if isinstance(v, str) and len(v) <= 40 and _PRICE_TEXT.match(v):
+        return _price(v)
+    if isinstance(v, str) and "/" in v:
+        raise ValueError(f"expected a price per kg of the product as delivered with its currency, e.g. "
+                         f"'1.8 EUR/kg' (or a number with currency = 'EUR'), got {v!r}")
+    return v
+
+
 def _check_conditions(s) -> None:
     """Temperature keys of a surfactant or blend component that do not belong together."""
     raw = getattr(s, "model_fields_set", set())
@@ -349,7 +492,7 @@ class Surfactant(Section):
     from_: str | None = Field(default=None, alias="from")
     molar_mass: Q("molar_mass", gt=0)
     active_fraction: Q("dimensionless", gt=0, le=1) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
-    cmc: Q("concentration", gt=0) | None = None
+    cmc: CMC | None = None
     isotherm: str = "langmuir"
     max_surface_excess: Q("surface_excess", "surface_load", gt=0) | None = None
     area_per_molecule: Q("area", gt=0) | None = None
@@ -358,7 +501,7 @@ class Surfactant(Section):
     gibbs_prefactor: Q("dimensionless", ge=1, le=3) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
     partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
     clean_tension: Q("tension", gt=0) | None = None
-    price_per_kg: Q("dimensionless", ge=0) | None = None
+    price_per_kg: Annotated[Value, _quantity(("dimensionless",), ge=0), BeforeValidator(_price_text)] | None = None
     currency: str = ""
     diffusivity: Q("diffusivity", gt=0) | None = None
     reference_temperature: Q("temperature", gt=0) | None = None
@@ -389,8 +532,15 @@ class Surfactant(Section):
         if self.isotherm.strip().lower() != "frumkin" and self.interaction.si != 0:
             raise ValueError("interaction (Frumkin beta) is only used with isotherm = 'frumkin'")
         self._check_packing()
+        if self.price_per_kg is not None and self.price_per_kg.dimension == "price":
+            cur = price_currency(self.price_per_kg)
+            if self.currency.strip() and self.currency.strip() != cur:
+                raise ValueError(f"currency: {self.currency!r} differs from the currency of price_per_kg "
+                                 f"{self.price_per_kg.raw!r}; give one currency (or leave currency out)")
+            object.__setattr__(self, "currency", cur)
         if self.price_per_kg is not None and not self.currency.strip():
-            raise ValueError("currency: give the currency of price_per_kg, e.g. currency = 'EUR'")
+            raise ValueError("currency: give the currency of price_per_kg, e.g. currency = 'EUR', or write "
+                             "the price with it, e.g. price_per_kg = '1.8 EUR/kg'")
         return self
 
     def _check_packing(self) -> None:
@@ -448,7 +598,7 @@ class BlendComponent(Section):
     fraction: Q("dimensionless", ge=0, le=1)
     molar_mass: Q("molar_mass", gt=0)
     active_fraction: Q("dimensionless", gt=0, le=1) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
-    cmc: Q("concentration", gt=0) | None = None
+    cmc: CMC | None = None
     isotherm: str = "langmuir"
     max_surface_excess: Q("surface_excess", "surface_load", gt=0) | None = None
     area_per_molecule: Q("area", gt=0) | None = None
@@ -697,6 +847,11 @@ class Case(Section):
             raise ValueError("batch.salt: the salt corrections act on the CMC in an aqueous continuous phase; "
                              "this batch is oil-continuous (W/O), where the CMC is the oil's; remove salt "
                              "(its effect on a W/O emulsion is not modelled)")
+        rho_c = self.batch.continuous_density
+        if self.surfactant is not None:
+            _cmc_to_molar(self.surfactant, "surfactant", rho_c)
+        for i, comp in enumerate(self.blend.component if self.blend is not None else ()):
+            _cmc_to_molar(comp, f"blend.component[{i}]", rho_c)
         return self
 
     @property
@@ -739,6 +894,36 @@ class Case(Section):
                     if isinstance(v, Value):
                         out[f"blend.component[{i}].{key}"] = v
         return out
+
+    def source_of(self, path: str) -> str:
+        """Where a quantity's value comes from: ``"case file"``, ``"fitted block"``, ``"default"``
+        or ``"derived from <path>"`` (a volume fraction from ``batch.dispersed_mass_fraction``).
+
+        ``path`` is a key of :meth:`quantities` (``"blend.component[0].cmc"`` too).
+        """
+        if path == "batch.dispersed_fraction" and self.batch.dispersed_mass_fraction is not None:
+            return "derived from batch.dispersed_mass_fraction"
+        parts = re.findall(r"[^.\[\]]+|\[\d+\]", path)
+        node: Any = self._raw
+        if node is None:  # built without a file: what pydantic saw set
+            section = getattr(self, parts[0], None)
+            return "case file" if parts[-1] in getattr(section, "model_fields_set", ()) else "default"
+        for part in parts:
+            if part.startswith("[") and isinstance(node, list):
+                i = int(part[1:-1])
+                node = node[i] if i < len(node) else None
+            elif isinstance(node, dict):
+                node = node.get(part)
+            else:
+                node = None
+            if node is None:
+                break
+        if node is not None:
+            return "case file"
+        prov = self._provenance or {}
+        if parts[0] == "surfactant" and len(parts) == 2 and parts[1] in prov.get("keys_from_file", ()):
+            return "fitted block"
+        return "default"
 
     def spreads(self) -> dict[str, Value]:
         """Return the quantities that carry a spread."""
@@ -784,6 +969,10 @@ def _toml_path(loc: tuple) -> str:
     return out or "case file"
 
 
+_MISSING_HINTS = {"adsorption_constant": ADSORPTION_CONSTANT_HINT}
+_DOTTED = re.compile(r"^[a-z_]+(?:\[\d+\])?(?:\.[a-z_]+(?:\[\d+\])?)+$")
+
+
 def format_errors(exc: ValidationError) -> list[str]:
     """Turn a pydantic error into one line per problem, naming the TOML path."""
     lines = []
@@ -800,7 +989,8 @@ def format_errors(exc: ValidationError) -> list[str]:
             lines.append(f"{path}: unknown {where}{_suggest(str(loc[-1]), options)}")
         elif kind == "missing":
             what = "section" if len(loc) == 1 else "key"
-            lines.append(f"{path}: missing {what}")
+            hint = _MISSING_HINTS.get(str(loc[-1])) if len(loc) > 1 else None
+            lines.append(f"{path}: missing {what}" + (f"; expected {hint}" if hint else ""))
         else:
             msg = err["msg"]
             for prefix in ("Value error, ", "Assertion failed, "):
@@ -809,7 +999,9 @@ def format_errors(exc: ValidationError) -> list[str]:
             given = err.get("input")
             # a section-level check that names one of its keys first: "isotherm: ..." -> path.key
             head, sep, rest = msg.partition(": ")
-            if sep and head.isidentifier():
+            if sep and not loc and _DOTTED.match(head):  # a whole-case check naming its field
+                path, msg = head, rest
+            elif sep and head.isidentifier():
                 model = _model_for(loc + ("x",))
                 if model is not None and head in model.model_fields:
                     path, msg = f"{path}.{head}", rest
@@ -860,25 +1052,27 @@ def _merge_from(data: dict, base_dir: Path | None) -> dict | None:
 
 # "exactly one of" rules of a section; pydantic skips a section's own check when one of its
 # fields already failed, so these are checked again on the raw table to report every problem
-_CHOICES = {
-    "target": (("coverage", "tension", "free_concentration"),
+_CHOICES = (
+    ("target", (("coverage", "tension", "free_concentration"),
                "give exactly one target: coverage (0..1), tension (e.g. '35 mN/m') or "
-               "free_concentration (e.g. '0.5 mM'); got {given}"),
-    "batch": (("volume", "mass"),
-              "give the batch size as exactly one of volume (e.g. '2 m**3') or mass (e.g. '2000 kg'); "
-              "got {given}"),
-    "surfactant": (("max_surface_excess", "area_per_molecule"),
-                   "give exactly one of max_surface_excess (e.g. '3.3 umol/m**2' or '2 mg/m**2') "
-                   "or area_per_molecule (e.g. '0.50 nm**2'); got {given}"),
-}
+               "free_concentration (e.g. '0.5 mM'); got {given}")),
+    ("batch", (("volume", "mass"),
+               "give the batch size as exactly one of volume (e.g. '2 m**3') or mass (e.g. '2000 kg'); "
+               "got {given}")),
+    ("batch", (("dispersed_fraction", "dispersed_mass_fraction"), _FRACTION_CHOICE)),
+    ("surfactant", (("max_surface_excess", "area_per_molecule"),
+                    "give exactly one of max_surface_excess (e.g. '3.3 umol/m**2' or '2 mg/m**2') "
+                    "or area_per_molecule (e.g. '0.50 nm**2'); got {given}")),
+)
 
 
 def _with_choice_problems(lines: list[str], data: dict) -> list[str]:
     """Add the "exactly one of" problems that pydantic did not get to (see ``_CHOICES``)."""
     out = list(lines)
-    for section, (keys, text) in _CHOICES.items():
+    for section, (keys, text) in _CHOICES:
         table = data.get(section)
-        if not isinstance(table, dict) or any(line.startswith(f"{section}: ") for line in out):
+        line = f"{section}: " + text.format(given="")[:40]
+        if not isinstance(table, dict) or any(x.startswith(line) for x in out):
             continue
         given = [k for k in keys if k in table]
         if len(given) != 1:

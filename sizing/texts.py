@@ -97,11 +97,22 @@ def unreachable_explanation(what: str, needed_mM: float, needed_coverage: float,
 
 
 # ---------------------------------------------------------------------------------------------
+# a missing adsorption constant: how to get one (the case-file error and ``check``)
+
+ADSORPTION_CONSTANT_HINT = (
+    "the isotherm constant K (e.g. '1.2 m**3/mol'); fit it from a tension isotherm with "
+    "'sizing fit tension TENSION.csv' (tension against concentration below and above the CMC) and name the "
+    "fitted block with surfactant.from; without data, typical orders of magnitude are (common practice, "
+    "not a substitute for a fit): K about 10/CMC to 50/CMC, i.e. anionic sulfates and sulfonates or "
+    "cationic quats (CMC 1-20 mM) 0.5-5 m**3/mol, ethoxylated nonionics (CMC 0.01-0.1 mM) 100-5000 m**3/mol")
+
+# ---------------------------------------------------------------------------------------------
 # readable names of case fields
 
 FIELD_LABELS = {
     "batch.volume": "batch volume", "batch.mass": "batch mass",
-    "batch.dispersed_fraction": "dispersed fraction", "batch.temperature": "temperature",
+    "batch.dispersed_fraction": "dispersed volume fraction", "batch.temperature": "temperature",
+    "batch.dispersed_mass_fraction": "dispersed mass fraction",
     "batch.continuous_density": "continuous-phase density", "batch.dispersed_density": "dispersed-phase density",
     "drops.d32": "Sauter mean diameter d32", "drops.median": "median diameter", "drops.gsd": "geometric SD",
     "drops.characteristic_size": "RRSB characteristic size", "drops.spread": "RRSB spread",
