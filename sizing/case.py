@@ -510,6 +510,7 @@ class Surfactant(Section):
     adsorption_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
         default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
     counterion_binding: Q("dimensionless", ge=0, le=1) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    charge: Literal["nonionic", "anionic", "cationic", "amphoteric"] | None = None  # of the surface-active ion
     krafft_point: Q("temperature", gt=0) | None = None
     cloud_point: Q("temperature", gt=0) | None = None
 
@@ -612,6 +613,7 @@ class BlendComponent(Section):
     adsorption_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
         default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
     counterion_binding: Q("dimensionless", ge=0, le=1) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    charge: Literal["nonionic", "anionic", "cationic", "amphoteric"] | None = None  # of the surface-active ion
     krafft_point: Q("temperature", gt=0) | None = None
     cloud_point: Q("temperature", gt=0) | None = None
 
@@ -816,6 +818,10 @@ class Process(Section):
     """``[process]``: plant process facts outside the balance (residence time for the kinetics flag)."""
 
     residence_time: Q("time", gt=0) | None = None
+    # what makes the drops or bubbles, in the words of the report (default: from the case's
+    # system and [scaleup]; see sizing.texts.equipment_word)
+    equipment: Literal["homogeniser", "high-pressure homogeniser", "rotor-stator mixer", "mixer",
+                       "stirred tank", "aerator", "colloid mill"] | None = None
 
 
 class Case(Section):
