@@ -17,7 +17,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import expit
+from scipy.special import expit, log_expit
 
 from .isotherm import check_model, lnkc_of_logit, logit, theta_of_c
 from .roots import bracketed_newton
@@ -193,9 +193,12 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
     Solves ``N = c V_eff + Gamma_inf theta(c) A + N_mic`` with ``V_eff = V_c + u V_d``.
     Below the micelle threshold ``N_cmc = CMC V_eff + Gamma_inf theta(CMC) A`` Langmuir is the
     closed-form root of ``V K c**2 + (V + S K - N K) c - N = 0`` (``S = Gamma_inf A``), written
-    in the cancellation-free form; Frumkin and Volmer solve
-    ``g(y) = V_eff exp(lnKc(y))/K + Gamma_inf A expit(y) - N`` in ``y = logit(theta)``,
-    bracketed by the two facts that each term is at most N and one of them is at least N/2.
+    in the cancellation-free form; Frumkin and Volmer solve the log residual
+    ``h(y) = ln(V_eff exp(lnKc(y))/K + Gamma_inf A expit(y)) - ln N`` in ``y = logit(theta)``
+    (nearly straight in y, so Newton takes about 4-5 evaluations per element instead of 8-10 on
+    the plain residual), bracketed by the two facts that each term is at most N and one of them
+    is at least N/2; the bracket safeguard of :func:`sizing.physics.roots.bracketed_newton`
+    stays.
     At or above ``N_cmc`` the state is ``c = CMC`` and the rest is in micelles [1, 2].
 
     Examples
@@ -242,27 +245,35 @@ def state_for_dose(dose_mol, *, continuous_volume, dispersed_volume, uptake, max
     solve = (~micelles) & (n > 0)
     if np.any(solve):
         N, V, S, K, B = n[solve], veff[solve], s[solve], k[solve], b[solve]
-        with np.errstate(divide="ignore", over="ignore"):
+        with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+            L = np.log(K * N / V)  # ln(K c) at the largest c the dose allows, c = N / V
             if model == "frumkin":
                 # y = ln(K c) + 2 beta theta: bounds on c bound y within 2|beta| without a root
-                y_c_hi = np.log(K * N / V) + np.maximum(0.0, 2.0 * B)
-                y_c_lo = np.log(0.5 * K * N / V) + np.minimum(0.0, 2.0 * B)
+                y_c_hi = L + np.maximum(0.0, 2.0 * B)
+                y_c_lo = L - np.log(2.0) + np.minimum(0.0, 2.0 * B)
             else:
-                y_c_hi = logit(theta_of_c(N / V, K, model, B))
-                y_c_lo = logit(theta_of_c(0.5 * N / V, K, model, B))
+                # Volmer y + e**y = ln(K c): the root is below ln(K c) and, for ln(K c) > 1, below
+                # ln(ln(K c)); above ln(K c) - e**ln(K c) and ln(ln(K c) - ln ln(K c)) likewise
+                y_c_hi = np.where(L > 1.0, np.log(np.maximum(L, 1.0)), L)
+                Lo = np.minimum(L - np.log(2.0), 1e300)  # finite where V = 0 (c unbounded)
+                y_c_lo = np.where(Lo > 1.0, np.log(np.maximum(Lo - np.log(np.maximum(Lo, 1.0)), 1.0)),
+                                  Lo - np.exp(np.minimum(Lo, 1.0)))
             y_hi = np.minimum(y_c_hi, logit(np.minimum(N / S, 1.0)))
             y_lo = np.minimum(y_c_lo, logit(np.minimum(0.5 * N / S, 1.0)))
             y_hi = np.minimum(y_hi, logit(theta_cmc[solve]))
             y_lo = np.minimum(y_lo, y_hi)
+            ln_v_k, ln_s, ln_n = np.log(V / K), np.log(S), np.log(N)
 
         def fdf(y, idx):
+            # the log residual ln(V c + S theta) - ln N: both terms grow about exponentially in
+            # y, so its logarithm is nearly straight and Newton needs about half the steps of
+            # the plain residual; log-sum-exp keeps it finite at both ends
             lnkc, dl = lnkc_of_logit(y, model, B[idx])
-            cc = np.exp(lnkc) / K[idx]
-            th = expit(y)
-            g = V[idx] * cc + S[idx] * th - N[idx]
-            dg = V[idx] * cc * dl + S[idx] * th * (1.0 - th)
-            # scale so that the tolerance is relative to the dose
-            return g / N[idx], dg / N[idx]
+            a_bulk = ln_v_k[idx] + lnkc
+            a_surf = ln_s[idx] + log_expit(y)
+            m = np.logaddexp(a_bulk, a_surf)
+            w_bulk = np.exp(a_bulk - m)  # share of the bulk in V c + S theta
+            return m - ln_n[idx], w_bulk * dl + (1.0 - w_bulk) * expit(-y)
 
         y = bracketed_newton(fdf, y_lo, y_hi, xtol=xtol, rtol=1e-15)
         lnkc, _ = lnkc_of_logit(y, model, B)

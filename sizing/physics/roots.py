@@ -63,31 +63,37 @@ def bracketed_newton(fdf, lo, hi, x0=None, *, xtol=1e-13, rtol=4e-16, maxiter=20
     x = 0.5 * (lo + hi) if x0 is None else np.clip(np.array(x0, dtype=float, copy=True), lo, hi)
     shape = x.shape
     lo, hi, x = lo.ravel(), hi.ravel(), x.ravel()
-    open_ = np.flatnonzero(hi - lo > xtol + rtol * np.abs(x))
-    last = np.full(x.shape, np.inf)  # size of each element's previous step
+    idx = np.flatnonzero(hi - lo > xtol + rtol * np.abs(x))
+    # the open elements are kept packed (their x, bracket and previous step), so each step costs
+    # in proportion to what is still open; a converged element is written back once
+    xi, lo, hi = x[idx], lo[idx], hi[idx]
+    last = np.full(idx.shape, np.inf)  # size of each element's previous step
     for _ in range(maxiter):
-        if open_.size == 0:
+        if idx.size == 0:
             break
-        xi = x[open_]
-        f, df = fdf(xi, open_)
+        f, df = fdf(xi, idx)
         # tighten the brackets with the sign of f
         neg = f < 0
-        lo[open_] = np.where(neg, xi, lo[open_])
-        hi[open_] = np.where(neg, hi[open_], xi)
+        lo = np.where(neg, xi, lo)
+        hi = np.where(neg, hi, xi)
         with np.errstate(divide="ignore", invalid="ignore"):
             step = f / df
             xn = xi - step
         # bisect when Newton leaves the bracket or does not halve the previous step (a Newton
         # cycle around an inflection, as Frumkin with strong repulsion makes)
         # a Newton step below the tolerance is the answer (it may round onto a bracket end)
-        tiny = np.isfinite(xn) & (np.abs(xn - xi) <= xtol + rtol * np.abs(xi))
-        bad = (~np.isfinite(xn) | (xn <= lo[open_]) | (xn >= hi[open_])
-               | (np.abs(xn - xi) > 0.5 * last[open_])) & ~tiny
-        xn = np.where(bad, 0.5 * (lo[open_] + hi[open_]), xn)
-        last[open_] = np.abs(xn - xi)
-        done = (f == 0) | tiny | (np.abs(xn - xi) <= xtol + rtol * np.abs(xi)) | (
-            hi[open_] - lo[open_] <= xtol + rtol * np.abs(xi)
-        )
-        x[open_] = np.where(f == 0, xi, xn)
-        open_ = open_[~done]
+        tol = xtol + rtol * np.abs(xi)
+        tiny = np.isfinite(xn) & (np.abs(xn - xi) <= tol)
+        bad = (~np.isfinite(xn) | (xn <= lo) | (xn >= hi) | (np.abs(xn - xi) > 0.5 * last)) & ~tiny
+        xn = np.where(bad, 0.5 * (lo + hi), xn)
+        last = np.abs(xn - xi)
+        done = (f == 0) | tiny | (last <= tol) | (hi - lo <= tol)
+        xn = np.where(f == 0, xi, xn)
+        if done.any():
+            x[idx[done]] = xn[done]
+            keep = ~done
+            idx, xi, lo, hi, last = idx[keep], xn[keep], lo[keep], hi[keep], last[keep]
+        else:
+            xi = xn
+    x[idx] = xi  # elements still open after maxiter: their last iterate
     return x.reshape(shape)
