@@ -33,6 +33,7 @@ pages = [
             url_path="scaleup"),
     st.Page(str(HERE / "plan.py"), title="Plan", icon=":material/assignment:", url_path="plan"),
     st.Page(str(HERE / "compare.py"), title="Scenarios", icon=":material/compare:", url_path="scenarios"),
+    st.Page(str(HERE / "library.py"), title="Surfactant library", icon=":material/menu_book:", url_path="library"),
 ]
 page = st.navigation(pages)
 state.ensure_case()
