@@ -853,3 +853,40 @@ _SHOWN_UNITS = {"length": ("µm", 1e6), "concentration": ("mM", 1.0), "surface_e
                 "adsorption_constant": ("m³/mol", 1.0), "molar_mass": ("g/mol", 1e3), "volume": ("m³", 1.0),
                 "mass": ("kg", 1.0), "temperature": ("K", 1.0), "tension": ("mN/m", 1e3),
                 "density": ("kg/m³", 1.0), "dimensionless": ("", 1.0), "molar_energy": ("kJ/mol", 1e-3)}
+
+
+def blend_rows(result: dict) -> dict:
+    """Return a blend plan's figures as rows for a screen, from result.json (:func:`plan_view`).
+
+    Returns
+    -------
+    dict or None (not a blend)
+        ``charge``: per component ``name``, ``mass_fraction``, ``mole_fraction``, ``kg_product``,
+        ``kg_active``, ``mol``, ``coverage`` (share of the interface [-]) and ``percent`` {place: %};
+        ``split``: rows ``component``, ``place``, ``kg_active``, ``percent``; ``interface``: rows
+        ``dose_kg``, ``component``, ``coverage``; ``mixed_cmc_mol_m3``, ``onset_kg_product``,
+        ``charge_kg`` (the recommended blend charge), ``cheapest`` (result.json's cheapest_ratio).
+    """
+    bp = result.get("blend_plan")
+    comps = (result.get("recommendation") or {}).get("components")
+    if not bp or not comps:
+        return None
+    charge, split = [], []
+    for c in comps:
+        total = sum(v for v in c["split_mol"].values() if v is not None) or 1.0
+        kg_per_mol = c["kg_active"] / c["mol"] if c["mol"] else math.nan
+        pct = {k: 100.0 * (v or 0.0) / total for k, v in c["split_mol"].items()}
+        charge.append({k: c[k] for k in ("name", "mass_fraction", "mole_fraction", "kg_product", "kg_active", "mol",
+                                         "coverage")} | {"percent": pct})
+        for place, mol in c["split_mol"].items():
+            if mol:
+                split.append({"component": c["name"], "place": place, "kg_active": mol * kg_per_mol,
+                              "percent": pct[place]})
+    ic = bp["interface_composition"]
+    interface = [{"dose_kg": d, "component": name, "coverage": cov[k]}
+                 for name, cov in ic["coverage"].items() for k, d in enumerate(ic["dose_kg_product"])
+                 if d is not None and cov[k] is not None]
+    return {"charge": charge, "split": split, "interface": interface, "mixed_cmc_mol_m3": bp["mixed_cmc_mol_m3"],
+            "onset_kg_product": bp["onset_kg_product"],
+            "charge_kg": result["recommendation"]["kg_product_per_batch"], "cheapest": bp.get("cheapest_ratio"),
+            "micelles": bp["micelles"], "interaction": bp["interaction"]}
