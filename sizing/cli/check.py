@@ -26,16 +26,72 @@ def _f(x):
     return json_number(x)
 
 
+def not_applicable(case) -> dict[str, str]:
+    """Return ``{path: reason}`` for the keys of a case that its model does not use (hidden by ``check``).
+
+    Only defaults are hidden: a key the file gives is always shown (a stray key given on purpose
+    is refused by the schema, or at least seen).
+    """
+    out: dict[str, str] = {}
+    s = case.scaleup
+    if s is not None and s.method == "power_law":
+        out["scaleup.weber_exponent"] = "a stirred-tank key; this [scaleup] uses a power law of the process variable"
+    sections = ([("surfactant", case.surfactant)] if case.surfactant is not None
+                else [(f"blend.component[{i}]", c) for i, c in enumerate(case.blend.component)])
+    for where, sec in sections:
+        if getattr(sec, "isotherm", "langmuir").strip().lower() != "frumkin":
+            out[f"{where}.interaction"] = "the Frumkin beta; this isotherm has none"
+        if sec.reference_temperature is None:
+            for key in ("micellisation_enthalpy", "adsorption_enthalpy"):
+                out[f"{where}.{key}"] = "used only with reference_temperature (the constants hold at the batch temperature)"
+        if sec.cmc is None:
+            out[f"{where}.counterion_binding"] = "acts on the CMC, and this surfactant forms no micelles"
+    if case.case.continuous == "oil":
+        out["batch.salt"] = "the salt corrections act on an aqueous continuous phase"
+    present = case.quantities()
+    return {p: r for p, r in out.items() if p in present and case.source_of(p) == "default"}
+
+
+def ionic_flags(case) -> list[str]:
+    """An ionic surfactant (charge given, or counter-ion binding > 0) left with the default Gibbs prefactor."""
+    sections = ([("surfactant", case.surfactant)] if case.surfactant is not None
+                else [(f"blend.component[{i}]", c) for i, c in enumerate(case.blend.component)])
+    out = []
+    for where, sec in sections:
+        why = []
+        if sec.charge in ("anionic", "cationic"):
+            why.append(f"charge = {sec.charge!r}")
+        if sec.counterion_binding.si > 0:
+            why.append(f"counterion_binding = {sec.counterion_binding.si:g}")
+        if why and case.source_of(f"{where}.gibbs_prefactor") == "default":
+            out.append(f"{where}.gibbs_prefactor: not given for an ionic surfactant ({', '.join(why)}); the default "
+                       "n = 1 holds for a nonionic or an ionic in excess salt, a 1:1 ionic without salt has n = 2 "
+                       "(common practice; the Gibbs equation of a 1:1 electrolyte), which halves Gamma_inf from "
+                       "the slope of a tension isotherm: give gibbs_prefactor (e.g. 2), or fit the isotherm with "
+                       "'sizing fit tension --electrolyte'")
+    return out
+
+
 def resolve(case) -> dict:
-    """Return ``{"inputs": {path: {si, unit, given}}, "derived": {...}}`` for a case (no solve)."""
+    """Return ``{"inputs": {path: {si, unit, given, source, as_written}}, "derived": {...}}`` (no solve).
+
+    ``given`` is the value as the case file (or its fitted block) writes it, None for a default;
+    ``source`` says which: ``"case file"``, ``"fitted block"``, ``"default"`` or
+    ``"derived from <path>"``.  Keys the case's model does not use are left out of ``inputs`` and
+    listed with the reason in ``not_applicable``.
+    """
     inputs = {}
+    hidden = not_applicable(case)
     for path, v in case.quantities().items():
+        if path in hidden:
+            continue
         unit = DIMENSIONS[v.dimension][1]
         if path == "surfactant.price_per_kg" or path.endswith("].price"):
             unit = f"{case.currency}/kg"
         raw = v.raw.get("value") if isinstance(v.raw, dict) else v.raw
-        inputs[path] = {"si": v.si, "unit": unit or "-", "given": raw,
-                        "spread": list(v.spread) if v.spread else None}
+        source = case.source_of(path)
+        inputs[path] = {"si": v.si, "unit": unit or "-", "given": None if source == "default" else raw,
+                        "source": source, "as_written": raw, "spread": list(v.spread) if v.spread else None}
     i = case_inputs(case)
     vc, vd = phases.phase_volumes(i.volume, i.dispersed_fraction)
     area = float(distribution.interfacial_area(i.d32, vd, i.shape_factor))
@@ -61,7 +117,7 @@ def resolve(case) -> dict:
         # the values the balance uses at the batch temperature and salt (moved from the reference
         # temperature by the case's enthalpies, and by Corrin-Harkins for the salt)
         "at_batch": at_batch_json(i),
-        "warnings": list(i.range_warnings),
+        "warnings": list(i.range_warnings) + ionic_flags(case),
     }
     if i.blend is not None:  # a blend has no isotherm constants of its own: the components hold them
         derived["coverage_at_cmc"] = None
@@ -69,14 +125,26 @@ def resolve(case) -> dict:
         derived["isotherm"] = "competitive Langmuir (blend)"
         derived["mixed_cmc_mol_m3"] = _f(i.cmc)
         derived["onset_dose_mol"] = _f(onset_dose_mol(i))
-    return {"title": case.case.title, "valid": True, "inputs": inputs, "derived": derived}
+    return {"title": case.case.title, "valid": True, "inputs": inputs, "not_applicable": hidden,
+            "derived": derived}
 
 
 def describe(out: dict) -> str:
     rows = []
     for path, d in out["inputs"].items():
         si = f"{sig(d['si'], 6)} {d['unit'] if d['unit'] != '-' else '(-)'}"
-        rows.append((path, f"{si:<24} given {d['given']!r}" + (" with spread" if d["spread"] else "")))
+        src = d["source"]
+        if src == "case file":
+            where = f"given {d['as_written']!r}"
+        elif src == "fitted block":
+            where = f"from the fitted block {d['as_written']!r}"
+        elif src.startswith("derived from "):
+            where = f"{src} = {d['as_written']!r}"
+        else:
+            where = "default"
+        if path == "batch.dispersed_fraction":
+            where += " (volume fraction)"
+        rows.append((path, f"{si:<24} {where}" + (" with spread" if d["spread"] else "")))
     d = out["derived"]
 
     def u(x, unit, scale=1.0):
@@ -113,8 +181,12 @@ def describe(out: dict) -> str:
                       f"K {u(comp['adsorption_constant_m3_mol'], 'm**3/mol')}, n {u(comp['gibbs_prefactor'], '(-)')}"))
     if "onset_dose_mol" in d:
         drows.append(("onset of mixed micelles", u(d["onset_dose_mol"], "mol per batch")))
-    return "\n\n".join([table(rows, f"{out['title']}: inputs in SI"), table(drows, "derived (no solve)"),
-                        "case is valid"])
+    parts = [table(rows, f"{out['title']}: inputs in SI")]
+    if out.get("not_applicable"):
+        parts.append("not used by this case (defaults hidden): " + ", ".join(out["not_applicable"]))
+    parts.append(table(drows, "derived (no solve)"))
+    parts += [f"warning: {w}" for w in d["warnings"]]
+    return "\n\n".join(parts + ["case is valid"])
 
 
 def run(args) -> int:

@@ -1,0 +1,214 @@
+"""Issue 14, items 8-12 and 16: inputs as recipes and datasheets give them, `check` that tells
+given from default, words that fit the system, the EW demo, coarse size classes.
+
+Every reference value says where it comes from beside the check (the arithmetic of a definition,
+scipy, or a trade fact marked "common practice").
+"""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+
+from sizing.case import loads_case
+from sizing.cli import main
+from sizing.errors import InputError
+from sizing.model import solve_case
+
+BASE = """
+[case]
+title = "t"
+system = "emulsion"
+[batch]
+volume = "1 m**3"
+dispersed_fraction = 0.3
+continuous_density = "1000 kg/m**3"
+dispersed_density = "850 kg/m**3"
+[drops]
+d32 = "3 um"
+[surfactant]
+molar_mass = "288.4 g/mol"
+active_fraction = 0.3
+cmc = "8.2 mM"
+max_surface_excess = "3.3 umol/m**2"
+adsorption_constant = "1.2 m**3/mol"
+[target]
+coverage = 0.8
+"""
+
+
+def edited(old: str, new: str, text: str = BASE) -> str:
+    assert old in text, old
+    return text.replace(old, new, 1)
+
+
+def problems(text: str) -> list[str]:
+    with pytest.raises(InputError) as exc:
+        loads_case(text)
+    return exc.value.problems
+
+
+# ---------------------------------------------------------------------------------------------
+# item 8: a recipe's share by mass
+
+
+def test_mass_fraction_becomes_the_volume_fraction():
+    # 30 % oil by mass, oil 850 kg/m**3, water 1000 kg/m**3.  Reference: the arithmetic of the
+    # definition of a volume fraction with additive phase volumes, phi = (w/rho_d)/(w/rho_d + (1-w)/rho_c)
+    # (no mixing volume between immiscible phases); tolerance 1e-12 relative (rounding only).
+    phi_ref = (0.3 / 0.85) / (0.3 / 0.85 + 0.7 / 1.0)
+    case = loads_case(edited("dispersed_fraction = 0.3", "dispersed_mass_fraction = 0.3"))
+    assert case.batch.dispersed_fraction.si == pytest.approx(phi_ref, rel=1e-12)
+    assert case.source_of("batch.dispersed_fraction") == "derived from batch.dispersed_mass_fraction"
+    # the area follows the volume of oil: 11.7 % more than reading "30 %" as a volume fraction
+    by_mass = solve_case(case)
+    by_volume = solve_case(loads_case(BASE))
+    ratio = float(by_mass.area) / float(by_volume.area)
+    assert ratio == pytest.approx(phi_ref / 0.3, rel=1e-12)
+    assert ratio - 1 == pytest.approx(0.117, abs=1e-3)
+
+
+def test_mass_fraction_needs_both_densities_and_excludes_the_volume_fraction():
+    text = edited("dispersed_fraction = 0.3", "dispersed_mass_fraction = 0.3")
+    lines = problems(edited('dispersed_density = "850 kg/m**3"\n', "", text))
+    assert len(lines) == 1 and lines[0].startswith("batch.dispersed_mass_fraction: ")
+    assert "dispersed_density" in lines[0] and "continuous_density" not in lines[0]
+    lines = problems(edited('continuous_density = "1000 kg/m**3"\n', "", text))
+    assert "continuous_density" in lines[0] and "dispersed_density" not in lines[0]
+    both = problems(edited("dispersed_fraction = 0.3", "dispersed_fraction = 0.3\ndispersed_mass_fraction = 0.3"))
+    assert any("exactly one of dispersed_fraction (the VOLUME fraction" in x and
+               "got dispersed_fraction, dispersed_mass_fraction" in x for x in both)
+    none = problems(edited("dispersed_fraction = 0.3\n", ""))
+    assert any("volume fraction" in x.lower() and x.endswith("got none") for x in none)
+    # an error on the fraction itself also says what kind of fraction is meant
+    over = problems(edited("dispersed_fraction = 0.3", "dispersed_fraction = 1.3"))
+    assert any(x.startswith("batch.dispersed_fraction:") for x in over)
+
+
+def test_check_and_labels_say_volume_fraction(capsys, tmp_path):
+    from sizing.texts import field_label
+
+    assert field_label("batch.dispersed_fraction") == "dispersed volume fraction"
+    path = tmp_path / "c.toml"
+    path.write_text(edited("dispersed_fraction = 0.3", "dispersed_mass_fraction = 0.3"), encoding="utf-8")
+    assert main(["check", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "volume fraction" in out and "dispersed_mass_fraction" in out
+
+
+# ---------------------------------------------------------------------------------------------
+# item 10: datasheet units
+
+
+@pytest.mark.parametrize("written", ['"2.365 g/L"', '"0.2365 wt%"', '"2365 ppm"', '"0.2365 % w/w"'])
+def test_cmc_by_mass_is_turned_into_mol_per_m3(written):
+    # Reference: the arithmetic of the definitions, c = rho_s / M for a mass concentration and
+    # c = w rho / M for a mass fraction w of the solution (mass of surfactant per mass of solution,
+    # the basis of wt% and ppm), rho the continuous phase's 1000 kg/m**3 here; M = 0.2884 kg/mol.
+    # 2.365 g/L / 0.2884 kg/mol = 8.2004 mol/m**3; tolerance 1e-12 relative (rounding only).
+    ref = 2.365 / 0.2884
+    case = loads_case(edited('cmc = "8.2 mM"', f"cmc = {written}"))
+    assert case.surfactant.cmc.si == pytest.approx(ref, rel=1e-12)
+    # the same dose as the CMC written in mM at the converted value
+    molar = loads_case(edited('cmc = "8.2 mM"', f'cmc = "{ref!r} mM"'))
+    assert float(solve_case(case).dose_mol) == pytest.approx(float(solve_case(molar).dose_mol), rel=1e-12)
+
+
+def test_cmc_by_mass_with_a_spread_and_the_errors():
+    case = loads_case(edited('cmc = "8.2 mM"', 'cmc = { value = "2.365 g/L", low = "2 g/L", high = "3 g/L" }'))
+    kind, lo, hi = case.surfactant.cmc.spread
+    assert kind == "uniform" and lo == pytest.approx(2 / 0.2884, rel=1e-12) and hi == pytest.approx(3 / 0.2884, rel=1e-12)
+    no_rho = edited('continuous_density = "1000 kg/m**3"\n', "", edited('cmc = "8.2 mM"', 'cmc = "0.2365 wt%"'))
+    lines = problems(no_rho)
+    assert len(lines) == 1 and lines[0].startswith("surfactant.cmc: '0.2365 wt%' is a mass fraction")
+    assert "mass per" in lines[0] or "per mass of solution" in lines[0]
+    assert "batch.continuous_density" in lines[0]
+    bare = problems(edited('cmc = "8.2 mM"', 'cmc = "0.2 %"'))
+    assert bare[0].startswith("surfactant.cmc: '%' alone does not say the basis; write wt%")
+
+
+def test_price_with_its_currency():
+    case = loads_case(edited('cmc = "8.2 mM"', 'cmc = "8.2 mM"\nprice_per_kg = "1.2 EUR/kg"'))
+    assert case.currency == "EUR" and case.surfactant.price_per_kg.si == 1.2
+    sol = solve_case(case)
+    assert float(sol.cost) == pytest.approx(1.2 * float(sol.kg_product), rel=1e-15)
+    same = loads_case(edited('cmc = "8.2 mM"', 'cmc = "8.2 mM"\nprice_per_kg = 1.2\ncurrency = "EUR"'))
+    assert float(solve_case(same).cost) == float(sol.cost)
+    clash = problems(edited('cmc = "8.2 mM"', 'cmc = "8.2 mM"\nprice_per_kg = "1.2 EUR/kg"\ncurrency = "USD"'))
+    assert clash[0].startswith("surfactant.currency: 'USD' differs")
+    per_t = problems(edited('cmc = "8.2 mM"', 'cmc = "8.2 mM"\nprice_per_kg = "1200 EUR/t"'))
+    assert per_t[0].startswith("surfactant.price_per_kg: expected a price per kg") and "'1200 EUR/t'" in per_t[0]
+
+
+def test_missing_adsorption_constant_says_how_to_get_one():
+    lines = problems(edited('adsorption_constant = "1.2 m**3/mol"\n', ""))
+    assert len(lines) == 1 and lines[0].startswith("surfactant.adsorption_constant: missing key; expected")
+    assert "sizing fit tension" in lines[0] and "common practice" in lines[0] and "m**3/mol" in lines[0]
+
+
+# ---------------------------------------------------------------------------------------------
+# item 11: check tells given from default, hides what does not apply, flags an ionic without n
+
+
+def check_json(text: str, tmp_path, capsys) -> dict:
+    path = tmp_path / "c.toml"
+    path.write_text(text, encoding="utf-8")
+    assert main(["check", str(path), "--json"]) == 0
+    return json.loads(capsys.readouterr().out)
+
+
+def check_text(text: str, tmp_path, capsys) -> str:
+    path = tmp_path / "c.toml"
+    path.write_text(text, encoding="utf-8")
+    assert main(["check", str(path)]) == 0
+    return capsys.readouterr().out
+
+
+def test_check_says_given_only_for_what_the_file_gives(tmp_path, capsys):
+    out = check_json(BASE, tmp_path, capsys)
+    shape = out["inputs"]["drops.shape_factor"]
+    assert shape["source"] == "default" and shape["given"] is None
+    assert out["inputs"]["drops.d32"] == {**out["inputs"]["drops.d32"], "source": "case file", "given": "3 um"}
+    text = check_text(BASE, tmp_path, capsys)
+    row = next(line for line in text.splitlines() if "drops.shape_factor" in line)
+    assert "default" in row and "given" not in row
+    margin = next(line for line in text.splitlines() if "target.margin" in line)
+    assert margin.rstrip().endswith("default")
+
+
+PRESSURE_LAW = """
+[scaleup]
+method = "power_law"
+variable = "pressure"
+points = [{ pressure = "200 bar", d32 = "4 um" }, { pressure = "400 bar", d32 = "3 um" }]
+plant = "300 bar"
+"""
+
+
+def test_check_hides_a_weber_exponent_in_a_pressure_law_case(tmp_path, capsys):
+    out = check_json(BASE + PRESSURE_LAW, tmp_path, capsys)
+    assert "scaleup.weber_exponent" not in out["inputs"]
+    assert "power law" in out["not_applicable"]["scaleup.weber_exponent"]
+    assert "weber_exponent" not in check_text(BASE + PRESSURE_LAW, tmp_path, capsys).split("not used by")[0]
+    # a stirred-tank case uses it: shown, as a default
+    tank = BASE + ('\n[scaleup]\nmethod = "stirred_tank"\nrule = "constant_tip_speed"\nlab_diameter = "5 cm"\n'
+                   'lab_speed = "900 rpm"\nplant_diameter = "0.6 m"\n')
+    out = check_json(tank, tmp_path, capsys)
+    assert out["inputs"]["scaleup.weber_exponent"]["source"] == "default"
+
+
+@pytest.mark.parametrize("extra, flagged", [
+    ("counterion_binding = 0.6", True),
+    ('charge = "anionic"', True),
+    ('charge = "nonionic"', False),
+    ("counterion_binding = 0.6\ngibbs_prefactor = 2", False),
+])
+def test_check_flags_an_ionic_surfactant_without_a_gibbs_prefactor(extra, flagged, tmp_path, capsys):
+    text = edited('cmc = "8.2 mM"', 'cmc = "8.2 mM"\n' + extra)
+    warnings = check_json(text, tmp_path, capsys)["derived"]["warnings"]
+    hits = [w for w in warnings if w.startswith("surfactant.gibbs_prefactor: not given for an ionic surfactant")]
+    assert bool(hits) is flagged
+    if flagged:
+        assert "n = 2" in hits[0] and "fit tension --electrolyte" in hits[0]
+        assert "warning: surfactant.gibbs_prefactor" in check_text(text, tmp_path, capsys)
