@@ -824,6 +824,11 @@ class Process(Section):
                        "stirred tank", "aerator", "colloid mill"] | None = None
 
 
+# keys read once into another quantity, left out of Case.quantities (a sweep or a Monte Carlo
+# run varies the quantity the engine uses, batch.dispersed_fraction)
+_INPUT_ONLY = frozenset({"batch.dispersed_mass_fraction"})
+
+
 class Case(Section):
     """A whole case file.  ``source`` is the file's folder, for relative paths."""
 
@@ -891,7 +896,7 @@ class Case(Section):
                 continue
             for key in type(section).model_fields:
                 v = getattr(section, key)
-                if isinstance(v, Value):
+                if isinstance(v, Value) and f"{section_name}.{key}" not in _INPUT_ONLY:
                     out[f"{section_name}.{key}"] = v
         if self.blend is not None:
             for i, comp in enumerate(self.blend.component):

@@ -212,3 +212,12 @@ def test_check_flags_an_ionic_surfactant_without_a_gibbs_prefactor(extra, flagge
     if flagged:
         assert "n = 2" in hits[0] and "fit tension --electrolyte" in hits[0]
         assert "warning: surfactant.gibbs_prefactor" in check_text(text, tmp_path, capsys)
+
+
+def test_a_sweep_cannot_vary_the_mass_fraction_in_silence(tmp_path, capsys):
+    # the engine uses the volume fraction: varying the mass fraction would change nothing
+    path = tmp_path / "c.toml"
+    path.write_text(edited("dispersed_fraction = 0.3", "dispersed_mass_fraction = 0.3"), encoding="utf-8")
+    assert main(["sweep", str(path), "--vary", "batch.dispersed_mass_fraction=0.2..0.4:3"]) == 2
+    err = capsys.readouterr().err
+    assert "batch.dispersed_mass_fraction: not a numeric field" in err and "batch.dispersed_fraction" in err
