@@ -21,7 +21,7 @@ import numpy as np
 
 from .case import read_size_table, table_path
 from .errors import InputError
-from .model import case_inputs, solve, solve_case, split_by_phase, target_concentration
+from .model import case_inputs, condition_warnings, solve, solve_case, split_by_phase, target_concentration
 from .outputs.calibrate_json import calibration_html, calibration_json, updated_case_toml
 from .outputs.plan_files import build_outputs
 from .outputs.result_json import adsorption_json, scaleup_json, uncertainty_json
@@ -890,3 +890,32 @@ def blend_rows(result: dict) -> dict:
             "onset_kg_product": bp["onset_kg_product"],
             "charge_kg": result["recommendation"]["kg_product_per_batch"], "cheapest": bp.get("cheapest_ratio"),
             "micelles": bp["micelles"], "interaction": bp["interaction"]}
+
+
+def condition_notes(case) -> list[str]:
+    """Return the Krafft- and cloud-point warnings of a case at its batch and storage temperatures
+    (:func:`sizing.model.condition_warnings`; the balance does not hold where one applies)."""
+    return list(condition_warnings(case))
+
+
+def conditions_curve(result: dict) -> dict | None:
+    """Return the plan's ``conditions`` part (result.json) in °C for a chart, or None without one.
+
+    Returns
+    -------
+    dict or None
+        ``temperature_C``, ``coverage`` [-], ``free_concentration_mol_m3``, ``cmc_mol_m3`` (lists),
+        ``batch_C``, ``storage_C`` (None without a storage temperature), ``storage_coverage`` [-] and
+        ``target_coverage`` [-].
+    """
+    c = result.get("conditions")
+    if not c:
+        return None
+
+    def celsius(t):
+        return None if t is None else t - 273.15
+
+    return {"temperature_C": [celsius(t) for t in c["temperature_K"]], "coverage": c["coverage"],
+            "free_concentration_mol_m3": c["free_concentration_mol_m3"], "cmc_mol_m3": c["cmc_mol_m3"],
+            "batch_C": celsius(c["batch_temperature_K"]), "storage_C": celsius(c["storage_temperature_K"]),
+            "storage_coverage": c["storage_coverage"], "target_coverage": result.get("target_coverage")}

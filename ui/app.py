@@ -28,12 +28,13 @@ pages = [
     CASE_PAGE,
     st.Page(str(HERE / "drops.py"), title="Drops and bubbles", icon=":material/bubble_chart:", url_path="drops"),
     st.Page(str(HERE / "surfactant.py"), title="Surfactant", icon=":material/science:", url_path="surfactant"),
+    st.Page(str(HERE / "process.py"), title="Process and storage", icon=":material/thermostat:", url_path="process"),
     st.Page(str(HERE / "dose.py"), title="Dose balance", icon=":material/balance:", url_path="dose"),
     st.Page(str(HERE / "scaleup.py"), title="Scale-up and uncertainty", icon=":material/trending_up:",
             url_path="scaleup"),
     st.Page(str(HERE / "plan.py"), title="Plan", icon=":material/assignment:", url_path="plan"),
     st.Page(str(HERE / "compare.py"), title="Scenarios", icon=":material/compare:", url_path="scenarios"),
-    st.Page(str(HERE / "library.py"), title="Surfactant library", icon=":material/menu_book:", url_path="library"),
+    st.Page(str(HERE / "library.py"), title="Library", icon=":material/menu_book:", url_path="library"),
 ]
 page = st.navigation(pages)
 state.ensure_case()
