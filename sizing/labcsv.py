@@ -142,8 +142,37 @@ def _fix_hint(sample: str) -> str:
             "or save the CSV with ';' as the separator")
 
 
+_MOLAR_MASS_LINE = re.compile(r"^\s*#\s*molar[ _]mass\s*[=:]\s*(.+?)\s*$", re.IGNORECASE)
+
+
+def _file_molar_mass(text: str, p) -> float | None:
+    """The molar mass a ``# molar_mass = 288.4 g/mol`` comment line of the file gives [kg/mol]."""
+    for line in text.splitlines():
+        m = _MOLAR_MASS_LINE.match(line)
+        if m:
+            return parse(m.group(1), f"{p}: the '# molar_mass' line", "molar_mass")
+    return None
+
+
+def _concentration_factor(unit: str, field: str, molar_mass: float | None, p) -> float:
+    """SI factor of a concentration column: mol/m**3 per unit; a mass concentration (g/L) via M."""
+    try:
+        return parse(f"1 {unit}", field, "concentration")
+    except InputError as molar_error:
+        try:
+            per_volume = parse(f"1 {unit}", field, "density")  # g/L = kg/m**3: mass per volume
+        except InputError:
+            raise molar_error from None
+    if molar_mass is None:
+        raise InputError(f"{field}: {token(unit)} is a mass concentration; reading it in mol/m**3 needs the "
+                         "molar mass of the surfactant: add a line '# molar_mass = 288.4 g/mol' to the file "
+                         "(or give the column in mM)")
+    return per_volume / molar_mass
+
+
 def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] = (),
-                 text_columns: tuple[str, ...] = ("notes", "note", "sample", "label")) -> LabTable:
+                 text_columns: tuple[str, ...] = ("notes", "note", "sample", "label"),
+                 molar_mass: float | None = None) -> LabTable:
     """Read a lab CSV into SI floats.
 
     Parameters
@@ -158,6 +187,10 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
         Columns that must be present.
     text_columns : tuple of str
         Columns kept as text (object arrays), e.g. ``notes``.
+    molar_mass : float, optional
+        [kg/mol] to read a concentration column given by mass (``c [g/L]``, ``c [mg/L]``) as
+        mol/m**3 (c = rho_s / M); without it, a ``# molar_mass = 288.4 g/mol`` line of the file
+        gives it (the caller's value wins), else such a column is refused with that hint.
 
     Returns
     -------
@@ -209,6 +242,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
             text = "\n".join(lines[:first] + lines[first + 1:]) + "\n"
     if sep is None:
         sep = detect_separator(_header_line(text))
+    if molar_mass is None:
+        molar_mass = _file_molar_mass(text, p)
     width = max((line.count(sep) for line in text.splitlines()), default=0) + 1
     try:
         import pandas as pd  # deferred: pandas is heavy and only lab files need it
@@ -338,6 +373,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
                 if dim == "temperature":  # offset units are affine: SI = t0 + x (t1 - t0), as a column
                     t0, t1 = parse(f"0 {unit}", field, dim), parse(f"1 {unit}", field, dim)
                     values = t0 + numbers * (t1 - t0)
+                elif dim == "concentration":  # mol/m**3, or by mass (g/L) through the molar mass
+                    values = numbers * _concentration_factor(unit, field, molar_mass, p)
                 else:  # every other unit is a plain factor
                     values = numbers * parse(f"1 {unit}", field, dim)
             except InputError as exc:

@@ -8,6 +8,7 @@ scipy, or a trade fact marked "common practice").
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 
@@ -221,3 +222,33 @@ def test_a_sweep_cannot_vary_the_mass_fraction_in_silence(tmp_path, capsys):
     assert main(["sweep", str(path), "--vary", "batch.dispersed_mass_fraction=0.2..0.4:3"]) == 2
     err = capsys.readouterr().err
     assert "batch.dispersed_mass_fraction: not a numeric field" in err and "batch.dispersed_fraction" in err
+
+
+def test_lab_csv_concentrations_in_g_per_l(tmp_path):
+    # the demo tension series rewritten in g/L of an invented M = 450 g/mol; reference: the
+    # arithmetic c = rho_s / M, so every concentration reads back to its mM value (1e-12 relative)
+    import numpy as np
+
+    from sizing.fitting.tension import read_tension_csv
+    from sizing.labcsv import read_lab_csv
+
+    src = Path(__file__).resolve().parents[1] / "cases_demo" / "lab" / "nonionic_tension.csv"
+    rows = [r for r in src.read_text(encoding="utf-8").splitlines() if r.strip() and not r.startswith("#")]
+    head, body = rows[0], rows[1:]
+    assert head.startswith("concentration [mM],")
+    out = ["concentration [g/L]," + head.split(",", 1)[1]]
+    for r in body:
+        c, rest = r.split(",", 1)
+        out.append(f"{float(c) * 0.450!r},{rest}")  # mM x kg/mol = g/L
+    by_mass = tmp_path / "gl.csv"
+    by_mass.write_text("# molar_mass = 450 g/mol\n" + "\n".join(out) + "\n", encoding="utf-8")
+    np.testing.assert_allclose(read_tension_csv(by_mass).concentration, read_tension_csv(src).concentration,
+                               rtol=1e-12)
+    # the caller's molar mass (a case's) reads a file without the line; without either: the hint
+    bare = tmp_path / "bare.csv"
+    bare.write_text("\n".join(out) + "\n", encoding="utf-8")
+    dims = {"concentration": "concentration", "tension": "tension", "temperature": "temperature"}
+    t = read_lab_csv(bare, dims, molar_mass=0.450)
+    np.testing.assert_allclose(np.sort(t.columns["concentration"]), read_tension_csv(src).concentration, rtol=1e-12)
+    with pytest.raises(InputError, match=r"'g/L' is a mass concentration; .*'# molar_mass = 288.4 g/mol'"):
+        read_lab_csv(bare, dims)
