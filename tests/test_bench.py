@@ -6,6 +6,7 @@ import numpy as np
 
 from sizing import bench
 from sizing.cli import main
+from sizing.physics.balance import state_for_dose
 
 
 def test_bench_json_contract_on_a_small_run(capsys):
@@ -18,6 +19,31 @@ def test_bench_json_contract_on_a_small_run(capsys):
     assert out["max_rel_diff"] < 1e-9
     assert out["max_mass_balance_error"] < 1e-9
     assert out["monte_carlo"]["samples"] == 100_000
+
+
+def test_bench_compares_each_isotherm_with_the_best_other_vectorised_way(capsys):
+    # Langmuir against its closed form written by hand in numpy, Frumkin and Volmer against
+    # scipy.optimize.elementwise.find_root (scipy's vectorised Chandrupatla root finder), all cases
+    # in one run; the answers agree to 1e-9 (the JSON's max_rel_diff includes these comparisons)
+    assert main(["bench", "--json", "--cases", "3000", "--loop-cases", "20", "--repeats", "2"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    assert set(out["ratio_vs_reference"]) == {"langmuir", "frumkin", "volmer"}
+    assert out["reference"]["frumkin"] == "scipy.optimize.elementwise.find_root"
+    assert out["reference"]["langmuir"] == "closed form by hand in numpy"
+    for m in ("langmuir", "frumkin", "volmer"):
+        assert out["ratio_vs_reference"][m] > 0 and out["timing"][m]["reference"]["runs"] == 2
+        assert out["max_rel_diff_by_model"][m] < 1e-9
+    assert set(out["targets"]["ratio_vs_reference"]) == {"langmuir", "frumkin", "volmer"}
+
+
+def test_references_equal_the_engine_directly():
+    # each reference is written without engine code; on its own it agrees with the engine to 1e-9
+    for m in ("langmuir", "frumkin", "volmer"):
+        case = bench.random_cases(5000, m, seed=3)
+        kw = {k: v for k, v in case.items() if k != "dose_mol"}
+        eng = state_for_dose(case["dose_mol"], model=m, **kw).free_concentration
+        ref = bench.closed_form_langmuir(case) if m == "langmuir" else bench.elementwise_solve(case, m)
+        np.testing.assert_allclose(ref, eng, rtol=1e-9, atol=0)
 
 
 def test_bench_refuses_nonsense_sizes(capsys):

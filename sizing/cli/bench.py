@@ -44,6 +44,12 @@ def run(args) -> int:
         rows.append(("  vs scipy brentq loop", f"{out['ratio_vs_loop'][m]:.1f}x "
                      f"({out['loop_cases_per_s'][m]:.3g} cases/s; min {t['scipy_loop']['min']:.3g} s, "
                      f"median {t['scipy_loop']['median']:.3g} s)" + (f", target {target}x" if target else "")))
+        if m in out.get("ratio_vs_reference", {}):
+            ref_target = out["targets"].get("ratio_vs_reference", {}).get(m)
+            rows.append((f"  vs {out['reference'][m]}",
+                         f"{out['ratio_vs_reference'][m]:.2f}x the reference's speed on the same cases "
+                         f"(median {t['reference']['median']:.3g} s)"
+                         + (f", target {ref_target:.2f}x" if ref_target else "")))
     rows.append(("agreement", f"max relative difference {out['max_rel_diff']:.2g} (target 1e-9)"))
     rows.append(("mass balance", f"max relative error {out['max_mass_balance_error']:.2g}"))
     if "monte_carlo" in out:
