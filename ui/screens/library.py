@@ -8,6 +8,7 @@ import streamlit as st
 
 from sizing import library
 from sizing.errors import InputError
+from sizing.outputs.htmlbits import num, unit_text
 from sizing.units import parse
 from ui import state
 
@@ -37,7 +38,7 @@ def _si(raw, dimension: str):
 
 
 def _g(x, scale: float = 1.0) -> str:
-    return "" if x is None else f"{x * scale:.4g}"
+    return "" if x is None else num(x * scale, 4)
 
 
 def _row(e: library.Entry) -> dict:
@@ -45,8 +46,8 @@ def _row(e: library.Entry) -> dict:
     gi = _si(b.get("max_surface_excess"), "surface_excess") if "max_surface_excess" in b else None
     load = _si(b.get("max_surface_excess"), "surface_load") if gi is None and "max_surface_excess" in b else None
     area = _si(b.get("area_per_molecule"), "area")
-    gamma = (f"{gi * 1e6:.3g} µmol/m²" if gi is not None else f"{load * 1e6:.3g} mg/m²" if load is not None
-             else f"{area * 1e18:.3g} nm² a molecule" if area is not None else "")
+    gamma = (f"{num(gi * 1e6, 3)} µmol/m²" if gi is not None else f"{num(load * 1e6, 3)} mg/m²" if load is not None
+             else f"{num(area * 1e18, 3)} nm² a molecule" if area is not None else "")
     return {"entry": e.name,
             "kind": "blend of " + str(len(e.block.get("component", []))) if e.kind == "blend" else "surfactant",
             "where": "shipped (typical values)" if e.builtin else "yours",
@@ -54,8 +55,7 @@ def _row(e: library.Entry) -> dict:
             "CMC [mM]": _g(_si(b.get("cmc"), "concentration")) if "cmc" in b else ("none" if b else ""),
             "Γ∞ (saturation)": gamma,
             "K [m³/mol]": _g(_si(b.get("adsorption_constant"), "adsorption_constant")),
-            "temperature": str(e.info.get("temperature") or e.provenance.get("temperature") or "")
-            .replace("degC", "°C"),
+            "temperature": unit_text(str(e.info.get("temperature") or e.provenance.get("temperature") or "")),
             "problem": e.problem or ""}
 
 
@@ -104,7 +104,7 @@ with st.expander("Where its values come from", expanded=entry.builtin):
     if entry.typical:
         st.warning("Typical values, not a product's data.", icon=":material/warning:")
     for key, value in entry.provenance.items():
-        st.markdown(f"- **{state.md_escape(key)}**: {state.md_escape(value)}")
+        st.markdown(f"- **{state.md_escape(key.replace('_', ' '))}**: {state.md_escape(unit_text(value))}")
     if entry.info.get("notes"):
         st.caption(state.md_escape(entry.info["notes"]))
 
