@@ -252,3 +252,62 @@ def test_lab_csv_concentrations_in_g_per_l(tmp_path):
     np.testing.assert_allclose(np.sort(t.columns["concentration"]), read_tension_csv(src).concentration, rtol=1e-12)
     with pytest.raises(InputError, match=r"'g/L' is a mass concentration; .*'# molar_mass = 288.4 g/mol'"):
         read_lab_csv(bare, dims)
+
+
+# ---------------------------------------------------------------------------------------------
+# item 9: --dose as product as delivered
+
+
+def test_solve_dose_in_product_goes_through_the_active_fraction(tmp_path, capsys):
+    path = tmp_path / "c.toml"
+    path.write_text(BASE, encoding="utf-8")
+    assert main(["solve", str(path), "--dose", "13.5 kg product", "--json"]) == 0
+    out = json.loads(capsys.readouterr().out)
+    # reference: the definition of the active fraction (active mass per mass of product as
+    # delivered): 13.5 kg x 0.3 = 4.05 kg active = 4.05 / 0.2884 mol; 1e-12 relative
+    assert out["dose_basis"]["basis"] == "product"
+    assert out["dose"]["kg_active"] == pytest.approx(13.5 * 0.3, rel=1e-12)
+    assert out["dose"]["mol"] == pytest.approx(13.5 * 0.3 / 0.2884, rel=1e-12)
+    assert out["dose"]["kg_product"] == pytest.approx(13.5, rel=1e-12)
+    # the same state as the active dose written out
+    assert main(["solve", str(path), "--dose", "4.05 kg active", "--json"]) == 0
+    active = json.loads(capsys.readouterr().out)
+    assert active["dose_basis"]["basis"] == "active"
+    assert active["state"]["coverage"] == pytest.approx(out["state"]["coverage"], rel=1e-12)
+    # a bare mass stays active, as before, and the echo says so
+    assert main(["solve", str(path), "--dose", "4.05 kg"]) == 0
+    text = capsys.readouterr().out
+    assert "--dose '4.05 kg' read as active surfactant" in text and "13.5 kg of product" in text
+    assert main(["solve", str(path), "--dose", "13.5 kg product"]) == 0
+    assert "read as product as delivered (active fraction 0.3): 4.05 kg active" in capsys.readouterr().out
+
+
+def test_dose_in_product_without_an_active_fraction_is_refused(tmp_path, capsys):
+    path = tmp_path / "c.toml"
+    path.write_text(edited("active_fraction = 0.3\n", ""), encoding="utf-8")
+    for verb in (["solve"], ["plan", "--out", str(tmp_path / "p")]):
+        assert main([*verb[:1], str(path), *verb[1:], "--dose", "13.5 kg product"]) == 2
+        err = capsys.readouterr().err
+        assert "--dose: '13.5 kg product' is a charge of product as delivered, but the case gives no " \
+               "surfactant.active_fraction" in err and "e.g. 0.30" in err and "Traceback" not in err
+    assert not (tmp_path / "p").exists()
+    assert main(["solve", str(path), "--dose", "4 mol product"]) == 2  # moles of product: refused
+    assert main(["solve", str(path), "--dose", "4 kg"]) == 0  # active needs no active fraction
+
+
+def test_plan_dose_shows_the_charge_against_the_plan(tmp_path, capsys):
+    path = tmp_path / "c.toml"
+    path.write_text(BASE, encoding="utf-8")
+    assert main(["plan", str(path), "--out", str(tmp_path / "p"), "--dose", "13.5 kg product"]) == 0
+    text = capsys.readouterr().out
+    assert "your charge            13.5 kg product, 4.05 kg active" in text
+    assert "read as product as delivered (active fraction 0.3)" in text
+    given = json.loads((tmp_path / "p" / "result.json").read_text(encoding="utf-8"))["dose_given"]
+    assert given["basis"] == "product" and given["kg_active"] == pytest.approx(4.05, rel=1e-12)
+    assert sum(given["split_share"].values()) == pytest.approx(1.0, rel=1e-12)
+    # the charge given evaluated by solve at the same dose: the same coverage (1e-12)
+    assert main(["solve", str(path), "--dose", "13.5 kg product", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["state"]["coverage"] == pytest.approx(given["coverage"], rel=1e-12)
+    rec = json.loads((tmp_path / "p" / "result.json").read_text(encoding="utf-8"))["recommendation"]
+    key = next(k for k in rec if k.startswith("kg_product"))
+    assert given["times_recommended_charge"] == pytest.approx(13.5 / rec[key], rel=1e-12)

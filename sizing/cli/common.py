@@ -9,12 +9,15 @@ import math
 import re
 import sys
 import warnings
+from dataclasses import dataclass
 
 from ..case import load_case
 from ..errors import InputError, SizingError
 from ..files import write_atomic  # noqa: F401  (re-exported for the verbs)
+from ..model import parse_dose
 from ..outputs.jsonify import dumps, to_jsonable  # noqa: F401  (re-exported for the verbs)
 from ..plausible import check, quantity_of, values_of
+from ..units import NumberFormatError, parse, sig
 
 # C0 and C1 control characters other than newline and tab (ANSI escapes start with ESC or CSI)
 _CONTROL = re.compile(r"[\x00-\x08\x0b-\x1f\x7f-\x9f\u2028\u2029\u202a-\u202e\u2066-\u2069]")
@@ -166,3 +169,81 @@ def clean_output():
         yield
     finally:
         sys.stdout, sys.stderr = out, err
+
+
+# ---------------------------------------------------------------------------------------------
+# a dose on the command line, as active or as product (``--dose "13.5 kg product"``)
+
+_BASIS_WORD = re.compile(r"^(.*?)\s+(product|active)\s*$", re.IGNORECASE | re.DOTALL)
+
+
+@dataclass(frozen=True)
+class Dose:
+    """A ``--dose`` read against a case: ``mol`` of active, the ``basis`` it was written on."""
+
+    text: str
+    mol: float
+    basis: str  # "active" or "product"
+    kg_active: float
+    kg_product: float
+    active_fraction: float
+
+    def echo(self) -> str:
+        """One line saying how the dose was read (printed by ``plan`` and ``solve``)."""
+        u = lambda x, unit: f"{sig(x, 4)} {unit}"  # noqa: E731
+        if self.basis == "product":
+            return (f"--dose {self.text!r} read as product as delivered (active fraction {sig(self.active_fraction, 4)}): "
+                    f"{u(self.kg_active, 'kg')} active, {u(self.mol, 'mol')}")
+        return (f"--dose {self.text!r} read as active surfactant ({u(self.mol, 'mol')}; "
+                f"{u(self.kg_product, 'kg')} of product as delivered); write '... kg product' for product")
+
+    def as_json(self) -> dict:
+        return {"text": self.text, "basis": self.basis, "mol": self.mol, "kg_active": self.kg_active,
+                "kg_product": self.kg_product, "active_fraction": self.active_fraction}
+
+
+def _active_fraction_given(case) -> bool:
+    if case.blend is not None:
+        return any(case.source_of(f"blend.component[{i}].active_fraction") != "default"
+                   for i in range(len(case.blend.component)))
+    return case.source_of("surfactant.active_fraction") != "default"
+
+
+def read_dose(text: str, case, inputs, field: str = "--dose") -> Dose:
+    """Read a dose per batch: ``"12 kg"`` or ``"40 mol"`` of active (as always), ``"12 kg active"``,
+    or ``"13.5 kg product"`` (as delivered, through the case's active fraction).
+
+    ``inputs`` are the case's engine inputs (:func:`sizing.model.case_inputs`): their molar
+    mass and active fraction (a blend's, mass-weighted) turn one basis into the other.
+
+    Raises
+    ------
+    InputError
+        An unreadable dose, moles of product, or "product" on a case without an active fraction.
+    """
+    m = _BASIS_WORD.match(str(text))
+    amount, basis = (m.group(1), m.group(2).lower()) if m else (str(text), "active")
+    mm = float(inputs.molar_mass)
+    af = float(inputs.active_fraction)
+    if basis == "product":
+        if not _active_fraction_given(case):
+            where = "blend.component[i].active_fraction" if case.blend is not None else "surfactant.active_fraction"
+            raise InputError(f"{field}: {text!r} is a charge of product as delivered, but the case gives no "
+                             f"{where} (the active mass per mass of product, e.g. 0.30 for a 30 % solution); "
+                             "give it in the case, or write the dose as active, e.g. '4 kg active'")
+        try:
+            kg_product = parse(amount, field, "mass")
+        except NumberFormatError:
+            raise
+        except InputError:
+            raise InputError(f"{field}: expected a mass of product as delivered such as '13.5 kg product', "
+                             f"got {text!r}") from None
+        if not kg_product >= 0:
+            raise InputError(f"{field}: expected a charge >= 0, got {text!r}")
+        kg_active = kg_product * af
+        mol = kg_active / mm
+    else:
+        mol = parse_dose(amount, mm, field)
+        kg_active = mol * mm
+        kg_product = kg_active / af
+    return Dose(str(text), float(mol), basis, float(kg_active), float(kg_product), af)

@@ -13,6 +13,7 @@ from pathlib import Path
 
 from ..case import load_case, loads_case
 from ..errors import InputError
+from ..model import case_inputs, solve, split_by_phase
 from ..outputs import report
 from ..outputs.jsonify import dumps
 from ..outputs.plan_files import OUTPUTS, build_outputs, write_outputs  # noqa: F401
@@ -21,7 +22,7 @@ from ..outputs.solve_json import solution_json
 from ..planning.plan import plan_warnings
 from ..texts import CLI_CAUTION, DOSE_CONTEXT_SHORT
 from ..units import sig
-from .common import clean, numeric_guard
+from .common import clean, numeric_guard, read_dose
 
 
 def register(sub) -> None:
@@ -33,6 +34,9 @@ def register(sub) -> None:
     p.add_argument("--prepared-by", metavar="NAME", help="name for the report's 'prepared by' line (blank line to sign without)")
     p.add_argument("--checked-by", metavar="NAME", help="name for the report's 'checked by' line (blank line to sign without)")
     p.add_argument("--revision", metavar="TEXT", help="revision shown in the report's head, e.g. 'B' or '2' (blank without)")
+    p.add_argument("--dose", metavar="Q", help="also show a charge of your own against the plan: product as delivered "
+                                             "('13.5 kg product') or active ('4 kg', '4 kg active', '14 mol'); "
+                                             "result.json gets 'dose_given'")
     p.add_argument("--json", action="store_true", help="print result.json on stdout instead of the summary (the files are still written)")
     p.set_defaults(func=run)
 
@@ -83,6 +87,31 @@ def describe(plan) -> str:
     return "\n".join(lines)
 
 
+def given_charge(plan, dose) -> dict:
+    """The equilibrium at a charge given with ``--dose`` (result.json ``dose_given``)."""
+    sol = solve(plan.solution.inputs, dose.mol)
+    split = {k: float(v) for k, v in split_by_phase(sol).items()}
+    total = sum(split.values()) or 1.0
+    r = plan.recommendation
+    return {**dose.as_json(), "coverage": float(sol.state.coverage),
+            "free_concentration_mol_m3": float(sol.state.free_concentration),
+            "split_mol": split, "split_share": {k: v / total for k, v in split.items()},
+            "times_recommended_charge": dose.kg_product / r.kg_product_per_batch
+            if r.kg_product_per_batch and math.isfinite(r.kg_product_per_batch) else None}
+
+
+def describe_given(g: dict, echo: str) -> str:
+    """The terminal lines of a ``--dose`` charge against the plan."""
+    where = ", ".join(f"{k} {100 * v:.3g} %" for k, v in g["split_share"].items() if v > 0)
+    times = g["times_recommended_charge"]
+    lines = [f"  your charge            {sig(g['kg_product'], 4)} kg product, {sig(g['kg_active'], 4)} kg active"
+             + (f" ({sig(times, 3)} x the recommended charge)" if times is not None else ""),
+             f"                         {echo}",
+             f"  at your charge         coverage {sig(g['coverage'], 4)} (-), free surfactant monomer "
+             f"{sig(g['free_concentration_mol_m3'], 4)} mM; {where}"]
+    return "\n".join(lines)
+
+
 def run(args) -> int:
     if args.case is None:
         demo = demo_case_path()
@@ -95,19 +124,29 @@ def run(args) -> int:
         stem = source.stem
     out_dir = Path(args.out) if args.out else Path.cwd() / f"{stem}_plan"
     with numeric_guard(args):  # before any file is written: a failed run keeps the old plan
+        dose = None
+        if getattr(args, "dose", None) is not None:  # read before the plan: a bad --dose costs nothing
+            dose = read_dose(args.dose, case, case_inputs(case))
         plan, files = build_outputs(case, source)
         names = {k: getattr(args, k, None) for k in ("prepared_by", "checked_by", "revision")}
         if any(names.values()):  # the sections are kept per plan: only the head is drawn again
             files["report.html"] = report.render(plan, **names)
+        result = plan_json(plan)
+        if dose is not None:
+            given = given_charge(plan, dose)
+            result["dose_given"] = {**given, "echo": dose.echo()}
+            files["result.json"] = dumps(result) + "\n"
     try:
         written = write_outputs(out_dir, files)
     except OSError as exc:
         raise InputError(f"--out: cannot write the plan into {out_dir} "
                          f"({exc.strerror or exc}{': ' + str(exc.filename) if exc.filename else ''})") from None
     if args.json:  # one JSON object on stdout (result.json), nothing else
-        print(dumps(plan_json(plan)))
+        print(dumps(result))
         return 0
     print(clean(describe(plan)))
+    if dose is not None:
+        print("\n" + clean(describe_given(result["dose_given"], dose.echo())))
     for w in plan_warnings(plan):
         print(clean(f"warning: {w}"))
     print()

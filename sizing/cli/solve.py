@@ -3,17 +3,18 @@
 from __future__ import annotations
 
 from ..case import load_case
-from ..model import solve_case
+from ..model import case_inputs, solve_case
 from ..outputs.solve_json import solution_json
 from ..units import sig
-from .common import clean, numeric_guard, print_json, table
+from .common import clean, numeric_guard, print_json, read_dose, table
 
 
 def register(sub) -> None:
     p = sub.add_parser("solve", help="dose for the case's target, or the equilibrium for a given dose",
                        description="Solve the surfactant mass balance of a case.")
     p.add_argument("case", help="case file (TOML)")
-    p.add_argument("--dose", metavar="Q", help="active amount per batch, a mass or moles ('12 kg', '40 mol')")
+    p.add_argument("--dose", metavar="Q", help="dose per batch: active as a mass or moles ('12 kg', '40 mol', "
+                                             "'12 kg active'), or product as delivered ('13.5 kg product')")
     p.add_argument("--json", action="store_true", help="print the result as one JSON object")
     p.set_defaults(func=run)
 
@@ -32,6 +33,8 @@ def describe(out: dict) -> str:
         ("largest coverage (CMC)", _fmt(out["max_coverage"], "")),
     ]
     text = [table(rows, out.get("title") or "case")]
+    if out.get("dose_basis"):
+        text.append(clean(out["dose_basis"]["echo"]))
     if out["dose"] is not None:
         d = out["dose"]
         title = "dose for the target" if out["mode"] == "target" else "dose given"
@@ -67,9 +70,11 @@ def describe(out: dict) -> str:
 def run(args) -> int:
     case = load_case(args.case)
     with numeric_guard(args):  # an overflow is one error naming the input, before any output
-        out = solution_json(solve_case(case, dose=args.dose), case)
-    if args.dose is not None:
+        dose = read_dose(args.dose, case, case_inputs(case)) if args.dose is not None else None
+        out = solution_json(solve_case(case, dose=dose.mol if dose is not None else None), case)
+    if dose is not None:
         out["dose_given"] = args.dose
+        out["dose_basis"] = {**dose.as_json(), "echo": dose.echo()}  # how --dose was read
     if args.json:
         print_json(out)
     else:
