@@ -6,7 +6,13 @@ from pathlib import Path
 
 from ..case import load_case
 from ..files import write_folder
-from ..outputs.calibrate_json import calibration_html, calibration_json, updated_case_toml
+from ..outputs.calibrate_json import (
+    calibration_html,
+    calibration_json,
+    learned_name,
+    shown,
+    updated_case_toml,
+)
 from ..outputs.jsonify import dumps
 from ..planning.calibrate import calibrate, read_trials
 from ..units import sig
@@ -39,14 +45,20 @@ def describe(j: dict) -> str:
              f"(P{nx['percentile']:g} dose {u(nx['dose_kg_product'], 'kg')} before margin and rounding)",
              f"  before the trials      {u(j['prior_charge_kg'], 'kg')}; probability the charge meets the target "
              f"{u(j['probability_target_met_before'], '')} before, {u(nx['probability_target_met'], '')} after",
-             "", "  learned input          prior p10 / p50 / p90  ->  posterior p10 / p50 / p90 (SI)"]
+             "", "  learned input                      prior p10 / p50 / p90  ->  posterior p10 / p50 / p90"]
+    units = j.get("units") or {}
     for p in j["posterior"]:
         a, b = j["prior"][p], j["posterior"][p]
-        lines.append(f"  {p:<22} {sig(a['p10'], 3)} / {sig(a['p50'], 3)} / {sig(a['p90'], 3)}  ->  "
-                     f"{sig(b['p10'], 3)} / {sig(b['p50'], 3)} / {sig(b['p90'], 3)}")
+        un = units.get(p) or ""
+        lines.append(f"  {learned_name(p)[:38]:<38} " + " / ".join(shown(a[k], un) for k in ("p10", "p50", "p90")) + "  ->  "
+                     + " / ".join(shown(b[k], un) for k in ("p10", "p50", "p90")))
     st = j.get("stability")
     if st and st.get("coverage_for_90_percent") is not None:
-        lines.append(f"  stability: 90 % chance of a stable batch from coverage {st['coverage_for_90_percent']:.3g}")
+        lo, hi = st.get("coverage_for_90_percent_interval") or (None, None)
+        lines.append(f"  stability: 90 % chance of a stable batch from coverage {st['coverage_for_90_percent']:.3g} "
+                     f"(95 %: {'open' if lo is None else f'{lo:.3g}'} to {'open' if hi is None else f'{hi:.3g}'}), "
+                     f"dose {u(st.get('dose_kg_product_for_90_percent'), 'kg')} of product before margin")
+    lines += [f"warning: {w}" for w in j.get("warnings", [])]
     lines += [f"note: {n}" for n in j["notes"]]
     lines += ["", "Equilibrium estimate from trial data: confirm the next charge by trial; follow safety data "
                   "sheets, legal emulsifier limits and local codes."]
@@ -57,7 +69,7 @@ def run(args) -> int:
     case = load_case(args.case)
     trials = read_trials(args.trials)
     cal = calibrate(case, trials, samples=args.samples, seed=args.seed)
-    j = calibration_json(cal)
+    j = calibration_json(cal, case)
     if args.out:
         files = {"result.json": dumps(j) + "\n", "report.html": calibration_html(case, cal, j),
                  "updated_case.toml": updated_case_toml(case, cal, args.trials)}

@@ -7,25 +7,59 @@ import copy
 import math
 
 from ..case import case_to_dict, dumps_case
-from ..texts import CAUTIONS
-from .htmlbits import CSS, esc, q, section, table
+from ..texts import CAUTIONS, field_label
+from .htmlbits import CSS, chart, esc, q, section, table
 from .jsonify import json_number as _num
 from .jsonify import to_jsonable
 
+# SI unit of a learned input by its dimension, and the unit people read it in (with the factor)
+_SI = {"length": "m", "concentration": "mol/m**3", "surface_excess": "mol/m**2", "adsorption_constant": "m**3/mol",
+       "molar_mass": "kg/mol", "volume": "m**3", "mass": "kg", "temperature": "K", "tension": "N/m",
+       "density": "kg/m**3", "dimensionless": "", "molar_energy": "J/mol", "frequency": "1/s", "power": "W",
+       "pressure": "Pa", "velocity": "m/s"}
+_SHOWN = {"m": ("um", 1e6), "mol/m**3": ("mM", 1.0), "mol/m**2": ("umol/m**2", 1e6), "N/m": ("mN/m", 1e3),
+          "J/mol": ("kJ/mol", 1e-3), "kg/mol": ("g/mol", 1e3), "Pa": ("bar", 1e-5)}
 
-def calibration_json(cal) -> dict:
+
+def learned_unit(case, path: str) -> str:
+    """The SI unit of a learned input ('' for a ratio such as the plant drop-size factor)."""
+    if path == "scaleup.plant_d32":
+        return "m"
+    q_ = case.quantities().get(path)
+    return _SI.get(q_.dimension, "") if q_ is not None else ""
+
+
+def shown(value, si_unit: str, digits: int = 3) -> str:
+    """A learned value in the unit people read (µm, mM, mN/m), as plain text."""
+    if value is None or not math.isfinite(value):
+        return "n/a"
+    unit, f = _SHOWN.get(si_unit, (si_unit, 1.0))
+    if si_unit == "K":
+        unit, value, f = "degC", value - 273.15, 1.0
+    return f"{value * f:.{digits}g} {unit}".strip()
+
+
+def calibration_json(cal, case=None) -> dict:
     """``trials``, ``prior``, ``posterior`` (by case path, p10/p50/p90 in SI), ``effective_sample_size``,
-    ``next`` {dose_kg_product, kg_product_per_batch, percentile, probability_target_met}, ``stability``."""
+    ``next`` {dose_kg_product, kg_product_per_batch, percentile, probability_target_met}, ``stability``.
+    Added later: ``units`` (SI unit of each banded input, '' for a ratio), ``warnings``, per trial
+    ``d32_source`` (measured or a size table) and its own ``volume_m3``/``mass_kg``/``temperature_K``;
+    ``stability`` with a model also gives the coverage interval and the dose for a 90 % chance."""
     t = cal.trials
     rows = []
     for j in range(t.charge_kg.size):
+        extra = {"d32_source": (t.d32_source[j] if t.d32_source else None) or None}
+        for name, key in (("volume", "volume_m3"), ("mass", "mass_kg"), ("temperature", "temperature_K")):
+            arr = getattr(t, name, None)
+            if arr is not None:
+                extra[key] = _num(arr[j])
         rows.append({"batch": t.batch[j], "charge_kg": _num(t.charge_kg[j]), "d32_m": _num(t.d32[j]),
                      "serum_concentration_mol_m3": _num(t.serum_concentration[j]),
                      "serum_tension_N_m": _num(t.serum_tension[j]),
                      "stable": None if not math.isfinite(t.stable[j]) else bool(t.stable[j]),
                      "predicted_d32_m": _num(cal.predicted["d32_m"][j]),
                      "predicted_free_concentration_mol_m3": _num(cal.predicted["free_concentration_mol_m3"][j]),
-                     "predicted_coverage": _num(cal.predicted["coverage"][j])})
+                     "predicted_coverage": _num(cal.predicted["coverage"][j]), **extra})
     return to_jsonable({
         "trials": rows, "prior": cal.prior, "posterior": cal.posterior,
         "effective_sample_size": cal.effective_sample_size, "samples": cal.samples,
@@ -34,6 +68,8 @@ def calibration_json(cal) -> dict:
         "prior_charge_kg": cal.prior_charge_kg, "probability_target_met_before": cal.probability_before,
         "stability": cal.stability, "learned": list(cal.learned), "notes": list(cal.notes),
         "cautions": list(CAUTIONS),
+        "units": {p: (learned_unit(case, p) if case is not None else None) for p in cal.posterior},
+        "warnings": list(getattr(cal, "warnings", ())),
     })
 
 
@@ -62,30 +98,98 @@ def updated_case_toml(case, cal, trials_name) -> str:
     return dumps_case(data)
 
 
+def learned_name(path: str) -> str:
+    """A learned input's name as people say it (the JSON keeps the case path)."""
+    if path == "scaleup.plant_d32_factor":
+        return "plant d32 factor (measured/predicted)"
+    if path == "scaleup.plant_d32":
+        return "plant d32"
+    return field_label(path)
+
+
+def _bands_chart(j) -> str:
+    """Prior and posterior p10..p90 of each learned input, as ratios to its prior median (log axis)."""
+    paths = list(j["posterior"])
+
+    def draw(fig):
+        ax = fig.add_subplot(111)
+        for i, p in enumerate(paths):
+            ref = j["prior"][p]["p50"]
+            if not ref:
+                continue
+            for off, band, colour, label in ((0.17, j["prior"][p], "#9aa7b8", "prior p10-p90"),
+                                             (-0.17, j["posterior"][p], "#1f5fa8", "posterior p10-p90")):
+                ax.plot([band["p10"] / ref, band["p90"] / ref], [i + off, i + off], color=colour, lw=6,
+                        solid_capstyle="butt", label=label if i == 0 else None)
+                ax.plot([band["p50"] / ref], [i + off], "|", color="black", ms=12)
+        ax.set_yticks(range(len(paths)))
+        ax.set_yticklabels([learned_name(p) for p in paths])
+        ax.set_xscale("log")
+        ax.set_xlabel("value / prior median [-]")
+        ax.invert_yaxis()
+        ax.legend()
+    return chart(draw, "What the trials taught: each learned input's 80 % band before and after (tick: median)")
+
+
+def _measured_chart(j) -> str:
+    rows = [r for r in j["trials"] if r["d32_m"] is not None or r["serum_concentration_mol_m3"] is not None]
+    if not rows:
+        return ""
+
+    def draw(fig):
+        ax = fig.add_subplot(111)
+        for key, pred, label, marker in (("d32_m", "predicted_d32_m", "d32", "o"),
+                                         ("serum_concentration_mol_m3", "predicted_free_concentration_mol_m3",
+                                          "serum concentration", "s")):
+            pts = [(r[pred], r[key]) for r in rows if r[key] is not None and r[pred]]
+            if pts:
+                ax.plot([m / p for p, m in pts], [r["batch"] for r in rows if r[key] is not None and r[pred]],
+                        marker, ls="none", label=label)
+        ax.axvline(1.0, color="grey", lw=1)
+        ax.set_xscale("log")
+        ax.set_xlabel("measured / predicted (posterior) [-]")
+        ax.legend()
+    return chart(draw, "Each trial's measurements against the posterior prediction (1 = agreement)")
+
+
 def calibration_html(case, cal, j) -> str:
     """A short self-contained report: prior against posterior, measured against predicted, next charge."""
     nx = j["next"]
+    units = j.get("units") or {}
+    warn = "".join(f"<p class='warn'>{esc(w)}</p>" for w in j.get("warnings", []))
+    warn += "".join(f"<p class='warn'>{esc(n)}</p>" for n in j["notes"] if n.startswith("WARNING"))
+    moved = ("lower" if nx["kg_product_per_batch"] < (j["prior_charge_kg"] or 0) else
+             "higher" if nx["kg_product_per_batch"] > (j["prior_charge_kg"] or 0) else "unchanged")
     head = (f'<p class="big">Next charge {esc(q(nx["kg_product_per_batch"], "kg"))} of product per batch</p>'
             f"<p>P{nx['percentile']:g} dose {esc(q(nx['dose_kg_product'], 'kg'))} before margin and rounding; "
-            f"before the trials {esc(q(j['prior_charge_kg'], 'kg'))}. Probability that the charge meets the target: "
+            f"before the trials {esc(q(j['prior_charge_kg'], 'kg'))} ({moved}: the trials narrowed the inputs "
+            "below). Probability that the charge meets the target: "
             f"{esc(q(j['probability_target_met_before'], ''))} before, {esc(q(nx['probability_target_met'], ''))} "
-            f"after. Effective sample size {j['effective_sample_size']:.0f} of {j['samples']}.</p>")
-    rows = [(p, f"{q(j['prior'][p]['p10'], '')} / {q(j['prior'][p]['p50'], '')} / {q(j['prior'][p]['p90'], '')}",
-             f"{q(b['p10'], '')} / {q(b['p50'], '')} / {q(b['p90'], '')}") for p, b in j["posterior"].items()]
-    body = head + table(rows, ("learned input (SI)", "prior p10 / p50 / p90", "posterior p10 / p50 / p90"),
-                        numeric_cols=())
+            f"after. Effective sample size {j['effective_sample_size']:.0f} of {j['samples']}.</p>" + warn)
+
+    def band(b, p):
+        return " / ".join(shown(b[k], units.get(p) or "", 3) for k in ("p10", "p50", "p90"))
+    rows = [(learned_name(p), band(j["prior"][p], p), band(b, p)) for p, b in j["posterior"].items()]
+    body = head + table(rows, ("learned input", "prior p10 / p50 / p90", "posterior p10 / p50 / p90"),
+                        numeric_cols=()) + _bands_chart(j)
     trows = [(r["batch"], q(r["charge_kg"], "kg"), q(r["d32_m"], "um", scale=1e6),
               q(r["predicted_d32_m"], "um", scale=1e6), q(r["serum_concentration_mol_m3"], "mM"),
               q(r["predicted_free_concentration_mol_m3"], "mM"), q(r["predicted_coverage"], ""),
               "" if r["stable"] is None else ("yes" if r["stable"] else "no")) for r in j["trials"]]
     body += table(trows, ("batch", "charge", "d32 measured", "d32 predicted", "serum measured", "serum predicted",
                           "coverage predicted", "stable"), numeric_cols=(1, 2, 3, 4, 5, 6))
-    body += "".join(f"<p>{esc(n)}</p>" for n in j["notes"])
+    body += _measured_chart(j)
+    st = j.get("stability") or {}
+    if st.get("coverage_for_90_percent") is not None:
+        lo, hi = st.get("coverage_for_90_percent_interval") or (None, None)
+        kg = st.get("dose_kg_product_for_90_percent")
+        body += (f"<p>Stability (logistic model on {st['rows']} pass/fail rows): a 90 % chance of a stable batch "
+                 f"from coverage {q(st['coverage_for_90_percent'], '', 3)} (95 % profile interval "
+                 f"{q(lo, '', 3) if lo is not None else 'open'} to {q(hi, '', 3) if hi is not None else 'open'}), "
+                 f"a dose of {esc(q(kg, 'kg'))} of product before margin.</p>")
+    body += "".join(f"<p>{esc(n)}</p>" for n in j["notes"] if not n.startswith("WARNING"))
     cautions = "".join(f"<li>{esc(c)}</li>" for c in CAUTIONS)
     return (f"<!doctype html><html><head><meta charset='utf-8'><title>{esc(case.case.title)}: calibration"
             f"</title><style>{CSS}</style></head><body><h1>{esc(case.case.title)}: learning from the trials</h1>"
             + section("calibration", "Next charge and what the trials taught", body)
             + section("cautions", "Cautions", f"<ul>{cautions}</ul>") + "</body></html>\n")
-
-
-
