@@ -28,6 +28,7 @@ from .outputs.result_json import adsorption_json, scaleup_json, uncertainty_json
 from .outputs.solve_json import solution_json
 from .physics import distribution
 from .physics.isotherm import theta_of_c
+from .planning import calibrate as calibration
 from .planning import uncertainty
 from .planning.achievable import achievable_curve
 from .planning.calibrate import calibrate, read_trials
@@ -768,7 +769,11 @@ TRIAL_COLUMNS = (("batch", "-", "the batch's name or number"),
                  ("serum concentration [mM]", "mM", "free surfactant left in the continuous phase"),
                  ("serum tension [mN/m]", "mN/m", "tension of the separated continuous phase"),
                  ("stable", "yes/no", "after the storage test"),
+                 ("d32 sd [%]", "%", "measurement error of d32, relative (empty: the default)"),
+                 ("serum sd [%]", "%", "measurement error of the serum analysis, relative (empty: the default)"),
                  ("notes", "", "free text, not read"))
+#: the default measurement errors [%] written where an sd column is given but a cell is left empty
+_SD_DEFAULTS = {"d32 sd [%]": 100 * calibration.D32_REL_SD, "serum sd [%]": 100 * calibration.SERUM_REL_SD}
 
 
 def trials_csv(rows: list[dict]) -> str:
@@ -782,14 +787,16 @@ def trials_csv(rows: list[dict]) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     heads = [h for h, _, _ in TRIAL_COLUMNS]
+    rows = [r for r in rows if not all(_blank(r.get(h)) for h in heads)]
+    heads = [h for h in heads if h not in _SD_DEFAULTS or any(not _blank(r.get(h)) for r in rows)]
     w.writerow(heads)
     for r in rows:
-        if all(_blank(r.get(h)) for h in heads):
-            continue
         cells = []
         for h in heads:
             v = r.get(h)
-            if _blank(v):
+            if _blank(v) and h in _SD_DEFAULTS:  # a measurement error left empty: the stated default
+                cells.append(f"{_SD_DEFAULTS[h]:g}")
+            elif _blank(v):
                 cells.append("")
             elif isinstance(v, bool):
                 cells.append("yes" if v else "no")
@@ -816,7 +823,9 @@ def trials_rows(path) -> list[dict]:
         out.append({"batch": t.batch[j], "charge [kg]": val(t.charge_kg[j]), "d32 [um]": val(t.d32[j], 1e6),
                     "serum concentration [mM]": val(t.serum_concentration[j]),
                     "serum tension [mN/m]": val(t.serum_tension[j], 1e3),
-                    "stable": None if not math.isfinite(t.stable[j]) else bool(t.stable[j]), "notes": ""})
+                    "stable": None if not math.isfinite(t.stable[j]) else bool(t.stable[j]),
+                    "d32 sd [%]": val(t.d32_rel_sd[j], 100.0), "serum sd [%]": val(t.serum_rel_sd[j], 100.0),
+                    "notes": ""})
     return out
 
 
@@ -919,3 +928,69 @@ def conditions_curve(result: dict) -> dict | None:
             "free_concentration_mol_m3": c["free_concentration_mol_m3"], "cmc_mol_m3": c["cmc_mol_m3"],
             "batch_C": celsius(c["batch_temperature_K"]), "storage_C": celsius(c["storage_temperature_K"]),
             "storage_coverage": c["storage_coverage"], "target_coverage": result.get("target_coverage")}
+
+
+# ---------------------------------------------------------------------------------------------
+# scenarios side by side (the Scenarios page and `sizing compare`)
+
+#: the compared quantities: key, label, unit as a case writes it ("" for text)
+COMPARE_COLUMNS = (
+    ("surfactant", "surfactant", ""),
+    ("d32_um", "d32 for the dose", "um"),
+    ("d32_source", "d32 from", ""),
+    ("batch_m3", "batch volume", "m**3"),
+    ("area_m2", "interfacial area", "m**2"),
+    ("coverage", "target coverage", "-"),
+    ("kg_product", "product per batch", "kg"),
+    ("kg_active", "active per batch", "kg"),
+    ("wt_percent", "product in the batch", "%"),
+    ("where", "where the surfactant goes", ""),
+)
+
+
+def _same(a, b) -> bool:
+    if isinstance(a, float) and isinstance(b, float):
+        return a == b or abs(a - b) <= 1e-9 * max(abs(a), abs(b))
+    return a == b
+
+
+def compare_view(cases: list, points: int = 40) -> dict:
+    """Return scenarios side by side: one row per case, the curves, and what differs from the first.
+
+    ``cases`` is a list of ``(label, Case)``.  Each row holds the keys of :data:`COMPARE_COLUMNS`
+    (SI-scaled as the key says: ``d32_um`` in µm; None where the target is not reachable) plus
+    ``scenario``, ``feasible``, ``warnings`` and ``differs`` (the keys whose value is not the first
+    case's).  ``curves`` are the dose against coverage of each case (one vectorised solve each).
+
+    >>> from sizing.case import load_case
+    >>> a = load_case(demo_case_path())
+    >>> v = compare_view([("a", a), ("b", a)], points=5)
+    >>> [r["differs"] for r in v["rows"]], v["differs"]["kg_product"]
+    ([[], []], False)
+    """
+    rows, curves = [], []
+    for label, case in cases:
+        s = summary(case)
+        info = d32_info(case)
+        dose = s["dose"] or {}
+        split = dose_split(case) if s["dose"] else []
+        where = ", ".join(f"{r['place']} {r['percent']:.0f} %" for r in sorted(split, key=lambda r: -r["percent"])
+                          if r["percent"] >= 0.5)
+        rows.append({"scenario": str(label), "surfactant": str(case.active_name),
+                     "d32_um": info["used_d32_m"] * 1e6,
+                     "d32_source": "plant (scale-up)" if info["scaleup"] else "case",
+                     "batch_m3": _f(s["phases"]["batch_volume_m3"]), "area_m2": _f(s["interfacial_area_m2"]),
+                     "coverage": _f(s["state"]["coverage"]),
+                     "kg_product": dose.get("kg_product"), "kg_active": dose.get("kg_active"),
+                     "wt_percent": dose.get("wt_percent"),
+                     "where": where or "target not reachable", "feasible": bool(s["feasible"]),
+                     "warnings": list(s.get("warnings", []))})
+        cov = dose_vs_coverage(case, points=points)
+        curves.append({"scenario": str(label), "coverage": cov["coverage"], "kg_product": cov["kg_product"],
+                       "target_coverage": cov["target_coverage"], "target_kg_product": cov["target_kg_product"]})
+    keys = [k for k, _, _ in COMPARE_COLUMNS]
+    for r in rows:
+        r["differs"] = [k for k in keys if not _same(r[k], rows[0][k])]
+    differs = {k: any(k in r["differs"] for r in rows) for k in keys}
+    return {"columns": [{"key": k, "label": lab, "unit": u} for k, lab, u in COMPARE_COLUMNS],
+            "rows": rows, "curves": curves, "differs": differs}

@@ -33,6 +33,7 @@ pages = [
     st.Page(str(HERE / "scaleup.py"), title="Scale-up and uncertainty", icon=":material/trending_up:",
             url_path="scaleup"),
     st.Page(str(HERE / "plan.py"), title="Plan", icon=":material/assignment:", url_path="plan"),
+    st.Page(str(HERE / "trials.py"), title="Plant trials", icon=":material/factory:", url_path="trials"),
     st.Page(str(HERE / "compare.py"), title="Scenarios", icon=":material/compare:", url_path="scenarios"),
     st.Page(str(HERE / "library.py"), title="Library", icon=":material/menu_book:", url_path="library"),
 ]

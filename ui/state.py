@@ -92,7 +92,9 @@ def work_dir() -> Path:
 def scrub(text: str) -> str:
     """Return a message without this server's folder names (the workspace is 'the case folder')."""
     text = str(text)
-    for folder in {str(work_dir()), str(workspace_root()), str(st.session_state.get(BASE, ""))} - {""}:
+    # the longest first: the work dir lies inside the workspace root
+    for folder in sorted({str(work_dir()), str(workspace_root()), str(st.session_state.get(BASE, ""))} - {""},
+                         key=len, reverse=True):
         text = text.replace(folder + os.sep, "").replace(folder, "the case folder")
     return text
 
