@@ -129,7 +129,8 @@ FIELD_LABELS = {
     "scaleup.plant": "plant process variable", "scaleup.plant_diameter": "plant impeller diameter",
     "scaleup.exponent": "power-law exponent b", "scaleup.lab_diameter": "lab impeller diameter",
     "scaleup.lab_speed": "lab speed", "scaleup.plant_speed": "plant speed",
-    "scaleup.weber_exponent": "Weber exponent", "process.residence_time": "residence time in the homogeniser",
+    "scaleup.weber_exponent": "Weber exponent",
+    "process.residence_time": "residence time where the drops or bubbles are made",
     "batch.salt": "salt concentration", "surfactant.micellisation_enthalpy": "micellisation enthalpy",
     "surfactant.adsorption_enthalpy": "adsorption enthalpy", "surfactant.counterion_binding": "counter-ion binding",
     "surfactant.fraction": "share in the blend", "surfactant.price": "price per kg of product",
@@ -189,3 +190,87 @@ def pass_criterion(system: str, continuous: str, level: float, d32_um: float) ->
     if level > 1 + 1e-9:
         return what + "; expected to pass: if the 1 x level fails and this one passes, adopt this level"
     return what + "; a pass confirms the recommended charge"
+
+
+# ---------------------------------------------------------------------------------------------
+# words that fit the system (report, terminal): what makes the drops, what the free surfactant
+# is called, which places the surfactant can go to
+
+EQUIPMENT_BY_SCALEUP = {"stirred_tank": "stirred tank", "tip_speed": "rotor-stator mixer",
+                        "pressure": "homogeniser", "energy_density": "homogeniser"}
+
+MACROMOLECULE_MOLAR_MASS = 5.0  # kg/mol: above this and without a CMC, a protein or polymer (our line)
+
+
+def equipment_word(system: str, equipment: str | None = None, scaleup_method: str | None = None,
+                   scaleup_variable: str | None = None) -> str:
+    """Return what makes the drops or bubbles, as the case says it.
+
+    ``[process] equipment`` wins; else a foam's is the aerator, a ``[scaleup]`` stirred tank or
+    rotor-stator mixer (a tip-speed power law) is named so, and every other emulsion's is the
+    homogeniser.
+
+    >>> equipment_word("foam"), equipment_word("emulsion", scaleup_method="stirred_tank")
+    ('aerator', 'stirred tank')
+    >>> equipment_word("emulsion", "colloid mill"), equipment_word("emulsion", scaleup_variable="pressure")
+    ('colloid mill', 'homogeniser')
+    """
+    if equipment:
+        return equipment
+    if system == "foam":
+        return "aerator"
+    if scaleup_method == "stirred_tank":
+        return EQUIPMENT_BY_SCALEUP["stirred_tank"]
+    return EQUIPMENT_BY_SCALEUP.get(scaleup_variable or "", "homogeniser")
+
+
+def free_word(has_cmc: bool, molar_mass: float) -> str:
+    """Return the name of the unadsorbed surfactant in the continuous phase.
+
+    "surfactant monomer", never "monomer" alone (a monomer pre-emulsion has monomers of its own);
+    a protein or polymer (no CMC, molar mass above 5 kg/mol) has no monomers to speak of.
+
+    >>> free_word(True, 0.288), free_word(False, 23.6)
+    ('free surfactant monomer', 'unadsorbed protein or polymer')
+    """
+    if not has_cmc and molar_mass > MACROMOLECULE_MOLAR_MASS:
+        return "unadsorbed protein or polymer"
+    return "free surfactant monomer"
+
+
+def places(system: str, has_cmc: bool) -> tuple[str, ...]:
+    """Return where the surfactant can go: no oil in a foam, no micelles without a CMC.
+
+    >>> places("foam", False), places("emulsion", True)
+    (('water', 'interface'), ('water', 'oil', 'interface', 'micelles'))
+    """
+    return tuple(p for p in ("water", "oil", "interface", "micelles")
+                 if not (p == "oil" and system == "foam") and not (p == "micelles" and not has_cmc))
+
+
+def applicable_assumptions(assumptions, has_cmc: bool, system: str) -> tuple[str, ...]:
+    """Leave out the model assumptions about micelles (no CMC) and partitioning (a foam)."""
+    out = []
+    for a in assumptions:
+        if not has_cmc and a.startswith("Pseudo-phase model"):
+            continue
+        if system == "foam" and a.startswith("The partition coefficient"):
+            continue
+        out.append(a)
+    return tuple(out)
+
+
+def words_for(case) -> dict:
+    """The words of :func:`equipment_word`, :func:`free_word` and :func:`places` for a case
+    (duck-typed: ``case.case.system``, ``[surfactant]`` or ``[blend]``, ``[scaleup]``, ``[process]``)."""
+    system = case.case.system
+    comps = [case.surfactant] if getattr(case, "surfactant", None) is not None else list(case.blend.component)
+    has_cmc = any(c.cmc is not None for c in comps)
+    molar_mass = min(c.molar_mass.si for c in comps)
+    s, p = getattr(case, "scaleup", None), getattr(case, "process", None)
+    return {
+        "system": system, "has_cmc": has_cmc,
+        "equipment": equipment_word(system, getattr(p, "equipment", None), getattr(s, "method", None),
+                                    getattr(s, "variable", None)),
+        "free": free_word(has_cmc, molar_mass), "places": places(system, has_cmc),
+    }

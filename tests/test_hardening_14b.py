@@ -311,3 +311,40 @@ def test_plan_dose_shows_the_charge_against_the_plan(tmp_path, capsys):
     rec = json.loads((tmp_path / "p" / "result.json").read_text(encoding="utf-8"))["recommendation"]
     key = next(k for k in rec if k.startswith("kg_product"))
     assert given["times_recommended_charge"] == pytest.approx(13.5 / rec[key], rel=1e-12)
+
+
+# ---------------------------------------------------------------------------------------------
+# item 12: words that fit the system
+
+DEMOS = Path(__file__).resolve().parents[1] / "cases_demo"
+
+
+def test_words_for_the_demo_systems():
+    from sizing.case import load_case
+    from sizing.texts import words_for
+
+    foam = words_for(load_case(DEMOS / "food_foam_protein.toml"))
+    assert foam["equipment"] == "aerator" and foam["places"] == ("water", "interface")
+    assert foam["free"] == "unadsorbed protein or polymer"
+    tank = words_for(load_case(DEMOS / "agro_ew_stirred_tank.toml"))
+    assert tank["equipment"] == "stirred tank" and "oil" in tank["places"] and "micelles" in tank["places"]
+    hph = words_for(load_case(DEMOS / "miniemulsion_hph.toml"))  # a monomer pre-emulsion
+    assert hph["equipment"] == "homogeniser" and hph["free"] == "free surfactant monomer"
+    mixer = words_for(loads_case(BASE + '[process]\nequipment = "rotor-stator mixer"\n'))
+    assert mixer["equipment"] == "rotor-stator mixer"
+
+
+def test_solve_and_plan_of_a_protein_foam_show_no_oil_micelles_or_cmc(tmp_path, capsys):
+    case = str(DEMOS / "food_foam_protein.toml")
+    assert main(["solve", case]) == 0
+    text = capsys.readouterr().out
+    split = text.split("where the surfactant is")[1]
+    assert "oil" not in split and "micelles" not in split
+    assert "CMC" not in text and "monomer" not in text and "unadsorbed protein or polymer" in text
+    assert main(["plan", case, "--out", str(tmp_path / "p")]) == 0
+    text = capsys.readouterr().out.split("wrote")[0]
+    assert "monomer" not in text and "on dispersed phase" not in text
+    # an emulsion keeps its oil and micelles, and says surfactant monomer (a monomer pre-emulsion)
+    assert main(["solve", str(DEMOS / "miniemulsion_hph.toml")]) == 0
+    text = capsys.readouterr().out
+    assert "free surfactant monomer" in text and "  oil " in text and "  micelles " in text

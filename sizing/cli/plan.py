@@ -20,7 +20,7 @@ from ..outputs.plan_files import OUTPUTS, build_outputs, write_outputs  # noqa: 
 from ..outputs.result_json import plan_json
 from ..outputs.solve_json import solution_json
 from ..planning.plan import plan_warnings
-from ..texts import CLI_CAUTION, DOSE_CONTEXT_SHORT
+from ..texts import CLI_CAUTION, DOSE_CONTEXT_SHORT, words_for
 from ..units import sig
 from .common import clean, numeric_guard, read_dose
 
@@ -49,6 +49,7 @@ def demo_case_path():
 def describe(plan) -> str:
     """Return the terminal text of a plan: the recommendation with units and the trial levels."""
     r = plan.recommendation
+    w = words_for(plan.case)
 
     def u(x, unit, scale=1.0, digits=4):
         return "n/a" if x is None or not math.isfinite(x) else f"{sig(x * scale, digits)} {unit}"
@@ -66,9 +67,10 @@ def describe(plan) -> str:
         f" {'at the CMC ceiling' if not plan.feasible else ('covering P%g of the spreads' % plan.uncertainty.monte_carlo.percentile) if plan.uncertainty is not None else 'for the target'}, margin {r.margin * 100:.3g} %, "
         f"rounded up to {u(r.increment_kg, 'kg')}",
         f"  of batch mass          {u(r.wt_percent, 'wt% (product)')}",
-        f"  on dispersed phase     {u(r.percent_on_dispersed, '% by mass (product)')}",
+        *([f"  on dispersed phase     {u(r.percent_on_dispersed, '% by mass (product)')}"]
+          if w["system"] != "foam" else []),
         f"  cost per batch         {u(r.cost_per_batch, r.currency, digits=5)}",
-        f"  coverage at the charge {u(r.coverage_at_charge, '(-)')}, free monomer "
+        f"  coverage at the charge {u(r.coverage_at_charge, '(-)')}, {w['free']} "
         f"{u(r.free_concentration_at_charge, 'mM')}",
     ]
     if plan.blend is not None:
@@ -100,14 +102,14 @@ def given_charge(plan, dose) -> dict:
             if r.kg_product_per_batch and math.isfinite(r.kg_product_per_batch) else None}
 
 
-def describe_given(g: dict, echo: str) -> str:
+def describe_given(g: dict, echo: str, free: str = "free surfactant monomer") -> str:
     """The terminal lines of a ``--dose`` charge against the plan."""
     where = ", ".join(f"{k} {100 * v:.3g} %" for k, v in g["split_share"].items() if v > 0)
     times = g["times_recommended_charge"]
     lines = [f"  your charge            {sig(g['kg_product'], 4)} kg product, {sig(g['kg_active'], 4)} kg active"
              + (f" ({sig(times, 3)} x the recommended charge)" if times is not None else ""),
              f"                         {echo}",
-             f"  at your charge         coverage {sig(g['coverage'], 4)} (-), free surfactant monomer "
+             f"  at your charge         coverage {sig(g['coverage'], 4)} (-), {free} "
              f"{sig(g['free_concentration_mol_m3'], 4)} mM; {where}"]
     return "\n".join(lines)
 
@@ -146,7 +148,7 @@ def run(args) -> int:
         return 0
     print(clean(describe(plan)))
     if dose is not None:
-        print("\n" + clean(describe_given(result["dose_given"], dose.echo())))
+        print("\n" + clean(describe_given(result["dose_given"], dose.echo(), words_for(case)["free"])))
     for w in plan_warnings(plan):
         print(clean(f"warning: {w}"))
     print()

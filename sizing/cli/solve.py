@@ -5,6 +5,7 @@ from __future__ import annotations
 from ..case import load_case
 from ..model import case_inputs, solve_case
 from ..outputs.solve_json import solution_json
+from ..texts import words_for
 from ..units import sig
 from .common import clean, numeric_guard, print_json, read_dose, table
 
@@ -23,15 +24,21 @@ def _fmt(x, unit, digits=4, scale=1.0):
     return "n/a" if x is None else f"{sig(x * scale, digits)} {unit}".strip()
 
 
-def describe(out: dict) -> str:
-    """Return the readable text of a solve result (the JSON object)."""
+def describe(out: dict, words: dict | None = None) -> str:
+    """Return the readable text of a solve result (the JSON object).
+
+    ``words`` (:func:`sizing.texts.words_for` of the case) names the free surfactant and leaves
+    out the places that do not exist (no oil in a foam, no micelles or CMC line without a CMC).
+    """
+    w = words or {"free": "free surfactant monomer", "places": None, "has_cmc": True}
     rows = [
         ("d32", _fmt(out["d32_m"], "um", scale=1e6)),
         ("interfacial area", _fmt(out["interfacial_area_m2"], "m**2")),
         ("continuous phase", f"{out['phases']['continuous']}, {_fmt(out['phases']['continuous_volume_m3'], 'm**3')}"),
         ("dispersed phase", f"{out['phases']['dispersed']}, {_fmt(out['phases']['dispersed_volume_m3'], 'm**3')}"),
-        ("largest coverage (CMC)", _fmt(out["max_coverage"], "")),
     ]
+    if w["has_cmc"]:
+        rows.append(("largest coverage (CMC)", _fmt(out["max_coverage"], "")))
     text = [table(rows, out.get("title") or "case")]
     if out.get("dose_basis"):
         text.append(clean(out["dose_basis"]["echo"]))
@@ -52,7 +59,7 @@ def describe(out: dict) -> str:
         text.append(clean("TARGET NOT REACHABLE at equilibrium: " + out.get("unreachable", "")))
     s = out["state"]
     srows = [
-        ("free monomer", _fmt(s["free_concentration_mol_m3"], "mM")),
+        (w["free"], _fmt(s["free_concentration_mol_m3"], "mM")),
         ("coverage", _fmt(s["coverage"], "")),
         ("surface excess", _fmt(s["surface_excess_mol_m2"], "umol/m**2", scale=1e6)),
     ]
@@ -61,7 +68,8 @@ def describe(out: dict) -> str:
     text.append(table(srows, "equilibrium state" + (" (at the CMC ceiling)" if s.get("at_cmc_ceiling") else "")))
     split = out["split_mol"]
     total = sum(v for v in split.values() if v) or 1.0
-    text.append(table([(k, f"{_fmt(v, 'mol')}  ({100 * (v or 0) / total:.1f} %)") for k, v in split.items()],
+    text.append(table([(k, f"{_fmt(v, 'mol')}  ({100 * (v or 0) / total:.1f} %)") for k, v in split.items()
+                       if w["places"] is None or k in w["places"] or v],
                       "where the surfactant is"))
     text += [clean(f"warning: {w}") for w in out.get("warnings", [])]
     return "\n\n".join(text)
@@ -78,5 +86,5 @@ def run(args) -> int:
     if args.json:
         print_json(out)
     else:
-        print(describe(out))
+        print(describe(out, words_for(case)))
     return 0
