@@ -28,6 +28,7 @@ VERBS = {
     "scaleup": "plant drop size from the [scaleup] section, and the dose it implies",
     "achievable": "drop size reached with a dose when surfactant may limit it",
     "calibrate": "update the case's spreads from plant trials and set the next charge",
+    "compare": "several cases side by side: dose, coverage, d32, area",
     "bench": "benchmark the vectorised balance against a per-case loop",
     "app": "start the Streamlit workbench in the browser (127.0.0.1)",
 }
