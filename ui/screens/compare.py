@@ -8,7 +8,7 @@ from sizing import views
 from sizing.case import parse_case
 from sizing.errors import InputError
 from ui import state
-from ui.charts import UM, num
+from ui.charts import num
 
 state.ensure_case()
 st.title("Scenarios")
@@ -30,27 +30,29 @@ if not scen:
             icon=":material/info:")
     st.stop()
 
-rows, curves = [], []
+#: the page's column names (kept as they were), for the keys of views.compare_view
+LABELS = {"d32_um": "d32 for the dose [µm]", "d32_source": "d32 source", "batch_m3": "batch [m³]",
+          "area_m2": "area [m²]", "coverage": "target coverage [-]", "kg_product": "product [kg/batch]",
+          "kg_active": "active [kg/batch]", "wt_percent": "product [wt%]",
+          "where": "where the surfactant goes", "surfactant": "surfactant"}
+
+good, bad = [], []
 for label, data in scen.items():
     try:
-        case = parse_case(data, st.session_state[state.BASE])
-        s = views.summary(case)
-        info = views.d32_info(case)
-        cov = views.dose_vs_coverage(case, points=40)
+        good.append((label, parse_case(data, st.session_state[state.BASE])))
     except InputError as exc:
-        rows.append({"scenario": label, "problem": state.scrub(exc.problems[0] if exc.problems else str(exc))})
-        continue
-    dose = s["dose"] or {}
-    rows.append({"scenario": label,
-                 "d32 for the dose [µm]": num(info["used_d32_m"] * UM, ""),
-                 "d32 source": "plant (scale-up)" if info["scaleup"] else "case",
-                 "batch [m³]": num(s["phases"]["batch_volume_m3"], ""),
-                 "area [m²]": num(s["interfacial_area_m2"], ""),
-                 "target coverage [-]": num(s["state"]["coverage"], ""),
-                 "product [kg/batch]": num(dose.get("kg_product"), "") if dose else "not reachable",
-                 "product [wt%]": num(dose.get("wt_percent"), "") if dose else "-",
-                 "surfactant": str(data.get("surfactant", {}).get("name", "blend" if "blend" in data else ""))})
-    curves.append(pd.DataFrame({"coverage": cov["coverage"], "kg_product": cov["kg_product"], "scenario": label}))
+        bad.append({"scenario": label, "problem": state.scrub(exc.problems[0] if exc.problems else str(exc))})
+view = views.compare_view(good, points=40) if good else {"rows": [], "curves": []}
+rows = []
+for r in view["rows"]:
+    row = {"scenario": r["scenario"]}
+    for key, name in LABELS.items():
+        v = r[key]
+        row[name] = v if isinstance(v, str) else num(v, "") if v is not None else "not reachable"
+    rows.append(row)
+rows += bad
+curves = [pd.DataFrame({"coverage": c["coverage"], "kg_product": c["kg_product"], "scenario": c["scenario"]})
+          for c in view["curves"]]
 
 table = pd.DataFrame(rows).set_index("scenario")
 if len(table) > 1:  # mark what differs from the first scenario
