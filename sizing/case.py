@@ -487,6 +487,23 @@ def _check_conditions(s) -> None:
                          "expected a Krafft point below the cloud point (between them the surfactant forms micelles)")
 
 
+def _check_measured_in(s, info) -> None:
+    """Constants measured in the other phase convert through P = c_oil/c_water, which must be known."""
+    where = s.measured_in
+    continuous = "water" if info.system == "foam" else info.continuous
+    if where is None or where == continuous:
+        return
+    if info.system == "foam":
+        raise ValueError("surfactant.measured_in: 'oil' in a foam, which has no oil phase; expected 'water' "
+                         "(or leave it out)")
+    if not s.partition_coefficient.si > 0:
+        raise ValueError(f"surfactant.measured_in: the CMC and adsorption constant were measured in the {where} "
+                         f"but the continuous phase is the {continuous}, and surfactant.partition_coefficient is "
+                         f"{s.partition_coefficient.si:g}: they cannot be converted; give the partition "
+                         "coefficient (sizing fit partition) or constants measured in the "
+                         f"{continuous}")
+
+
 class Surfactant(Section):
     name: str = "surfactant"
     from_: str | None = Field(default=None, alias="from")
@@ -513,6 +530,10 @@ class Surfactant(Section):
     charge: Literal["nonionic", "anionic", "cationic", "amphoteric"] | None = None  # of the surface-active ion
     krafft_point: Q("temperature", gt=0) | None = None
     cloud_point: Q("temperature", gt=0) | None = None
+    # the phase the cmc and adsorption_constant concentrations were measured in (a fitted block
+    # says so); when it is not the continuous phase the model converts them through the partition
+    # coefficient (default: the continuous phase, nothing converted)
+    measured_in: Literal["water", "oil"] | None = None
 
     @model_validator(mode="after")
     def _excess(self):
@@ -861,6 +882,7 @@ class Case(Section):
         rho_c = self.batch.continuous_density
         if self.surfactant is not None:
             _cmc_to_molar(self.surfactant, "surfactant", rho_c)
+            _check_measured_in(self.surfactant, self.case)
         for i, comp in enumerate(self.blend.component if self.blend is not None else ()):
             _cmc_to_molar(comp, f"blend.component[{i}]", rho_c)
         return self
@@ -1051,9 +1073,13 @@ def _merge_from(data: dict, base_dir: Path | None) -> dict | None:
         raise InputError(f"surfactant.from: {token(ref, 80)} has no [surfactant] table")
     merged = dict(block)
     merged.update(surf)  # the case's own keys win
-    data["surfactant"] = merged
     prov = fitted.get("provenance", {})
     prov = dict(prov) if isinstance(prov, dict) else {}
+    if "measured_in" not in merged and prov.get("kind") == "tension series fit":
+        # blocks written before the phase was recorded: a tension series is of an aqueous solution
+        merged["measured_in"] = "water"
+        prov["measured_in_assumed"] = True
+    data["surfactant"] = merged
     # as the user named it (relative to where they work), never the resolved absolute path: a
     # result.json shared with colleagues should not carry this machine's folder layout
     prov["file"] = str(Path(base_dir) / ref) if base_dir is not None and not Path(ref).is_absolute() else ref

@@ -266,6 +266,16 @@ def condition_warnings(case, temperature=None) -> list[str]:
              else [(comp.name, comp) for comp in case.blend.component])
     out = []
     prov = case.provenance or {}
+    s0 = case.surfactant
+    continuous = "water" if case.case.system == "foam" else case.case.continuous
+    if s0 is not None and s0.measured_in is not None and s0.measured_in != continuous:
+        out.append(f"the CMC and adsorption constant were measured in the {s0.measured_in} and are converted to the "
+                   f"continuous {continuous} through the partition coefficient {s0.partition_coefficient.si:g} "
+                   "(K / P and P x CMC for constants from water); the water's CMC in oil terms is where the "
+                   "drops start to hold micelles: reverse micelles in the oil may form earlier (measure the "
+                   "CMC in the oil where it matters)"
+                   + ("; the fitted block does not record its phase and is taken as measured in water "
+                      "(refit to record it, or set surfactant.measured_in)" if prov.get("measured_in_assumed") else ""))
     if case.surfactant is not None and case.surfactant.reference_temperature is None and prov.get("temperature"):
         try:
             t_fit = parse(str(prov["temperature"]), "provenance.temperature", "temperature")
@@ -302,8 +312,15 @@ def _surfactant_values(c, values: dict) -> dict:
             gi = np.asarray(gi) / np.asarray(molar_mass)
     else:
         gi = isotherm.surface_excess_from_area(values["surfactant.area_per_molecule"])
-    cmc, k, n = _at_conditions(c, values, "surfactant", _get(values, "surfactant.cmc", math.inf),
-                               values["surfactant.adsorption_constant"], values["surfactant.gibbs_prefactor"])
+    cmc0, k0 = _get(values, "surfactant.cmc", math.inf), values["surfactant.adsorption_constant"]
+    continuous = "water" if c.case.system == "foam" else c.case.continuous
+    if s.measured_in is not None and s.measured_in != continuous:
+        # concentrations in the other phase: c_oil = P c_water at partition equilibrium, so
+        # theta = K_w c_w = (K_w / P) c_oil, and the water's CMC is reached at c_oil = P CMC_w
+        p = np.asarray(values["surfactant.partition_coefficient"], dtype=float)
+        f = p if s.measured_in == "water" else 1.0 / p  # c_continuous = f * c_measured
+        cmc0, k0 = np.asarray(cmc0) * f, np.asarray(k0) / f
+    cmc, k, n = _at_conditions(c, values, "surfactant", cmc0, k0, values["surfactant.gibbs_prefactor"])
     return dict(
         model=isotherm.check_model(s.isotherm, values["surfactant.interaction"]),
         molar_mass=molar_mass, active_fraction=values["surfactant.active_fraction"],

@@ -56,6 +56,9 @@ def register(subparsers) -> None:
     t.add_argument("--json", action="store_true", help="print JSON")
     t.add_argument("--out", metavar="DIR", help="write DIR/NAME.toml ([surfactant] block) and its plot")
     t.add_argument("--name", help="NAME of the written block (default: the CSV name without _tension)")
+    t.add_argument("--measured-in", choices=("water", "oil"), default="water",
+                   help="phase the series' concentrations were made up in (default water); recorded in the "
+                        "block so an oil-continuous case converts K and the CMC through the partition coefficient")
     t.set_defaults(func=_tension)
 
     d = sub.add_parser("depletion", help="surface excess by difference from depletion runs",
@@ -113,7 +116,7 @@ def _tension(args) -> int:
     fit = fit_tension(data, temperature=temperature,
                       gibbs_prefactor=1.0 if args.gibbs_prefactor is None else args.gibbs_prefactor,
                       model=args.model, clean_tension=clean, bootstrap=args.bootstrap, seed=args.seed)
-    written = write_fitted_block(fit, args.out, name=args.name) if args.out else None
+    written = write_fitted_block(fit, args.out, name=args.name, measured_in=args.measured_in) if args.out else None
     if args.json:
         out = tension_fit_json(fit)
         if written:

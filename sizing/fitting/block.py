@@ -94,7 +94,8 @@ def block_stem(csv_path) -> str:
     return stem
 
 
-def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: str | None = None) -> dict:
+def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: str | None = None,
+                     measured_in: str = "water") -> dict:
     """Return ``{"surfactant": {...}, "provenance": {...}}`` for a tension fit.
 
     Parameters
@@ -104,6 +105,9 @@ def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: s
         File name of the plot, recorded in the provenance.
     source_path : str, optional
         Path of the source CSV relative to the block, recorded so the plot can be re-rendered.
+    measured_in : str
+        ``"water"`` or ``"oil"``: the phase the series' concentrations were made up in, recorded as
+        ``surfactant.measured_in`` so an oil-continuous case converts the constants through P.
 
     Returns
     -------
@@ -151,6 +155,7 @@ def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: s
         "gibbs_prefactor": int(n) if float(n).is_integer() else float(n),
         "cmc": _text(p["cmc"], "cmc"),
         "clean_tension": _text(p["clean_tension"], "clean_tension"),
+        "measured_in": measured_in,
     }
     intervals = {k: [_text(v, k) for v in b.intervals[k]] for k in _UNITS}
     if fit.model == "frumkin":
@@ -188,7 +193,8 @@ def surfactant_block(fit: TensionFit, *, plot: str | None = None, source_path: s
     return {"surfactant": surf, "provenance": prov}
 
 
-def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> tuple[Path, Path]:
+def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None,
+                       measured_in: str = "water") -> tuple[Path, Path]:
     """Write ``DIR/NAME.toml`` (the block) and ``DIR/NAME_tension_fit.svg`` (the plot), atomically.
 
     Parameters
@@ -198,6 +204,8 @@ def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> 
         Folder to write into (must exist).
     name : str, optional
         NAME; by default :func:`block_stem` of the data file.
+    measured_in : str
+        The phase of the series' concentrations (see :func:`surfactant_block`).
 
     Returns
     -------
@@ -243,7 +251,7 @@ def write_fitted_block(fit: TensionFit, out_dir, *, name: str | None = None) -> 
     toml_path, svg_path = out / f"{stem}.toml", out / f"{stem}_tension_fit.svg"
     svg = tension_plot_svg(fit)  # render first: a failure writes nothing
     rel = os.path.relpath(Path(fit.data.path).resolve(), out.resolve())
-    block = surfactant_block(fit, plot=svg_path.name, source_path=Path(rel).as_posix())
+    block = surfactant_block(fit, plot=svg_path.name, source_path=Path(rel).as_posix(), measured_in=measured_in)
     text = (f"# Fitted with `sizing fit tension` from {Path(fit.data.path).name}; a case uses it with\n"
             f"# [surfactant] from = \".../{toml_path.name}\" (the path relative to the case file)\n"
             + tomli_w.dumps(block))
