@@ -73,3 +73,19 @@ def test_an_entry_is_one_function_in_the_registry():
     out = bench.run(1000, 10, monte_carlo=False, repeats=2, entries={**bench.ENTRIES, "twice": twice})
     assert set(out["ratio_vs_loop"]) == {"langmuir", "frumkin", "volmer", "blend", "twice"}
     assert out["max_rel_diff_by_model"]["twice"] == 0
+
+
+def test_lotion_plan_imports_no_matplotlib(tmp_path):
+    # start-up (issue 16): the demo plan's charts are simple and drawn by hand as SVG, so the plan
+    # never imports matplotlib (a test of imports, not of time; tests/bench_startup.py times it)
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    lotion = Path(__file__).resolve().parents[1] / "cases_demo" / "lotion_o_w.toml"
+    code = ("import sys; from sizing.cli import main; "
+            f"rc = main(['plan', {str(lotion)!r}, '--out', {str(tmp_path / 'p')!r}]); "
+            "print(rc, 'matplotlib' in sys.modules)")
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert done.stdout.strip().splitlines()[-1] == "0 False"
+    assert (tmp_path / "p" / "report.html").read_text(encoding="utf-8").count("<svg") >= 4

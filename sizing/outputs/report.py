@@ -35,9 +35,9 @@ from ..fitting.block import plot_svg_for_provenance
 from ..physics.phases import phase_names
 from ..planning.blendplan import split_kg_active
 from ..planning.plan import plan_warnings
-from ..texts import DOSE_CONTEXT, PASS_NOTE, pass_criterion
+from ..texts import DOSE_CONTEXT, PASS_NOTE, applicable_assumptions, pass_criterion, words_for
 from ..version import __version__
-from .htmlbits import CSS, chart, esc, q, section, table, unit_text  # noqa: F401  (q: re-exported)
+from .htmlbits import CSS, chart, esc, hand_drawn, q, section, table, unit_text  # noqa: F401  (q: re-exported)
 from .report_parts import (
     _input_name,
     render_achievable,
@@ -67,7 +67,7 @@ def render_summary(plan) -> str:
     elif kind == "tension":
         target = q(t["value_si"], "mN/m (tension)", scale=1e3)
     else:
-        target = q(t["value_si"], "mM (free monomer)")
+        target = q(t["value_si"], f"mM ({words_for(c)['free']})")
     lead = (f'<p class="big">Charge {esc(q(r.kg_product_per_batch, "kg"))} of '
             f'{esc(c.active_name)} per batch ({esc(q(r.kg_active_per_batch, "kg"))} active)</p>'
             f'<p class="context">{esc(DOSE_CONTEXT)}</p>')
@@ -84,13 +84,15 @@ def render_summary(plan) -> str:
         ("rounding", f"up to {q(r.increment_kg, 'kg')} steps ({r.increment_source})"),
         ("of batch mass", q(r.wt_percent, "wt% (product)")),
         ("per litre of batch", q(r.g_per_l, "g/L (product)")),
-        ("on dispersed phase", q(r.percent_on_dispersed, "% by mass (product)")),
+        *([("on dispersed phase", q(r.percent_on_dispersed, "% by mass (product)"))]
+          if c.case.system != "foam" else []),
         ("per interfacial area", q(r.mg_per_m2, "mg/m**2 (active)")),
         ("cost per batch", q(r.cost_per_batch, r.currency, digits=5)),
         ("expected coverage at the charge", q(r.coverage_at_charge, "(-)")),
-        ("free monomer at the charge", q(r.free_concentration_at_charge, "mM")),
+        (f"{words_for(c)['free']} at the charge", q(r.free_concentration_at_charge, "mM")),
         ("tension at the charge", q(r.tension_at_charge, "mN/m", scale=1e3)),
-        ("micelles at the charge", q(100 * r.micelle_share_at_charge, "% of the charge")),
+        *([("micelles at the charge", q(100 * r.micelle_share_at_charge, "% of the charge"))]
+          if words_for(c)["has_cmc"] else []),
     ]
     warnings = plan_warnings(plan)
     if warnings:  # one box, the same list as the terminal and result.json "warnings"
@@ -146,9 +148,10 @@ def render_case(plan) -> str:
         ("maximum surface excess", q(s["max_surface_excess_mol_m2"], "umol/m**2", scale=1e6)
          + f" ({q(s['max_surface_excess_mol_m2'] * s['molar_mass_kg_mol'], 'mg/m**2', scale=1e6)})"),
         ("adsorption constant K", q(s["adsorption_constant_m3_mol"], "m**3/mol")),
-        ("CMC", q(s["cmc_mol_m3"], "mM") if s["cmc_mol_m3"] is not None else "none (no micelles)"),
-        ("largest coverage (at the CMC)", q(j["max_coverage"], "(-)")),
-        ("partition coefficient c_oil/c_water", q(s["partition_coefficient"], "(-)")),
+        *([("CMC", q(s["cmc_mol_m3"], "mM")), ("largest coverage (at the CMC)", q(j["max_coverage"], "(-)"))]
+          if s["cmc_mol_m3"] is not None else []),  # a protein or polymer: no CMC line
+        *([("partition coefficient c_oil/c_water", q(s["partition_coefficient"], "(-)"))]
+          if plan.case.case.system != "foam" else []),
         ("clean-interface tension", q(s["clean_tension_N_m"], "mN/m", scale=1e3)),
         ("molar mass", q(s["molar_mass_kg_mol"], "g/mol", scale=1e3)),
         ("active fraction of the product", q(s["active_fraction"], "(-)")),
@@ -188,7 +191,7 @@ def render_split(plan) -> str:
         k: (v or 0.0) * float(np.asarray(plan.inputs.molar_mass)) for k, v in r.split_mol_at_charge.items()}
     M = 1.0
     rows = []
-    for k in ("water", "oil", "interface", "micelles"):
+    for k in words_for(plan.case)["places"]:  # no oil row in a foam, no micelles without a CMC
         a = at_target.get(k) or 0.0
         b = at_charge.get(k) or 0.0
         tot_a = sum(v or 0.0 for v in at_target.values()) or 1.0
@@ -197,6 +200,7 @@ def render_split(plan) -> str:
     head = ("where", "dose for the target [kg active]" if plan.feasible else "at the CMC ceiling [kg active]",
             "share [%]", "recommended charge [kg active]", "share [%]")
 
+    @hand_drawn
     def draw(fig):
         ax = fig.add_subplot()
         labels = ["dose for target" if plan.feasible else "CMC ceiling", "recommended charge"]
@@ -220,6 +224,7 @@ def render_coverage_chart(plan) -> str:
     cv, r = plan.curves, plan.recommendation
     j = solution_json(plan.solution, plan.case)
 
+    @hand_drawn
     def draw(fig):
         ax = fig.add_subplot()
         ax.plot(cv.dose_kg_product, cv.coverage, color="#1f5fa8", label="equilibrium coverage")
@@ -249,6 +254,7 @@ def render_d32_chart(plan) -> str:
     cv, r = plan.curves, plan.recommendation
     d32_case = solution_json(plan.solution, plan.case)["d32_m"]
 
+    @hand_drawn
     def draw(fig):
         ax = fig.add_subplot()
         lab = "dose for the target" if plan.feasible else "dose at the CMC ceiling"
@@ -286,14 +292,14 @@ def render_trial(plan) -> str:
                      q(t.coverage, "(-)"), q(t.free_concentration, "mM"), q(t.tension, "mN/m", scale=1e3),
                      q(100 * t.micelle_share, "%", 3), str(t.batches)))
     head = ("level [x charge]", "product [kg/batch]", "active [kg/batch]", "product [wt% of batch]",
-            "expected coverage [-]", "free monomer [mM]", "tension [mN/m]", "micelles [% of dose]",
+            "expected coverage [-]", f"{words_for(plan.case)['free']} [mM]", "tension [mN/m]", "micelles [% of dose]",
             "batches")
     total = sum(t.kg_product * t.batches for t in plan.trial)
     body = (table(rows, head, numeric_cols=(1, 2, 3, 4, 5, 6, 7, 8))
             + f"<p>{len(plan.trial)} levels, {sum(t.batches for t in plan.trial)} batches in all, "
               f"{esc(q(total, 'kg'))} of product for the whole trial. Levels are multiples of the "
               f"recommended charge, rounded to the nearest {esc(q(plan.recommendation.increment_kg, 'kg'))} step; "
-              "coverage, free monomer, tension and micelles are the forward equilibrium for the amount "
+              f"coverage, {words_for(plan.case)['free']}, tension and micelles are the forward equilibrium for the amount "
               "charged.</p>")
     d32_um = solution_json(plan.solution, plan.case)["d32_m"] * 1e6
     sysname, cont = plan.case.case.system, plan.case.case.continuous
@@ -322,7 +328,9 @@ def render_assumptions(plan) -> str:
     rows = [(_input_name(a["path"], comps) if a["path"] and a["label"] == a["path"] else a["label"],
              unit_text(a["value"]), a["path"], a["source"]) for a in plan.assumptions]
     body = table(rows, ("parameter", "value as given", "case path", "where it came from"), numeric_cols=())
-    body += "<p>Model:</p><ul>" + "".join(f"<li>{esc(t)}</li>" for t in plan.model_assumptions) + "</ul>"
+    body += "<p>Model:</p><ul>" + "".join(
+        f"<li>{esc(t)}</li>" for t in applicable_assumptions(plan.model_assumptions, words_for(plan.case)["has_cmc"],
+                                                             plan.case.case.system)) + "</ul>"
     prov = plan.case.provenance
     if prov:
         body += "<p>Fitted surfactant block: " + esc(prov.get("file", "")) + "</p>"

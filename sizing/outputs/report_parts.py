@@ -11,8 +11,8 @@ import re
 
 import numpy as np
 
-from ..texts import field_label
-from .htmlbits import chart, esc, q, section, table, unit_text
+from ..texts import field_label, words_for
+from .htmlbits import chart, esc, hand_drawn, q, section, table, unit_text
 from .result_json import achievable_part_json, adsorption_json, scaleup_part_json, uncertainty_part_json
 
 
@@ -58,6 +58,7 @@ def render_achievable(plan) -> str:
     m, af = float(plan.inputs.molar_mass), float(plan.inputs.active_fraction)
     to_kg = m / af
 
+    @hand_drawn
     def draw(fig):
         ax = fig.add_subplot()
         d = np.asarray(cv["d32_m"], dtype=float)
@@ -78,9 +79,10 @@ def render_achievable(plan) -> str:
     body = chart(draw, "Surfactant-limited drop size: the d32 a charge can reach [um] against the product "
                        "charged [kg]; right of the knee more surfactant no longer makes smaller drops.")
     body += table(rows, ("level", "product [kg/batch]", "d32 reached [um]", "limited by"), numeric_cols=(1, 2))
-    body += (f"<p>Knee dose {esc(q(j['knee_dose_kg_product'], 'kg product'))}: the homogeniser's own d32 "
+    eq = words_for(plan.case)["equipment"]
+    body += (f"<p>Knee dose {esc(q(j['knee_dose_kg_product'], 'kg product'))}: the {esc(eq)}'s own d32 "
              f"{esc(q(j['homogeniser_d32_m'], 'um', scale=1e6))} needs at least this much at coverage "
-             f"{esc(q(j['min_coverage'], '(-)'))}. Below it the surfactant, not the homogeniser, limits "
+             f"{esc(q(j['min_coverage'], '(-)'))}. Below it the surfactant, not the {esc(eq)}, limits "
              "the drop size (equilibrium estimate).</p>")
     return section("achievable", "Drop size a charge can reach", body)
 
@@ -151,7 +153,7 @@ def render_adsorption(plan) -> str:
     j = adsorption_json(plan.adsorption)
     rows = [("adsorption depth h = Gamma/c", q(j["depth_m"], "um", scale=1e6)),
             ("diffusion time tau_D = h**2/D", q(j["diffusion_time_s"], "s")),
-            ("residence time in the homogeniser", q(j["residence_time_s"], "s")),
+            (f"residence time in the {words_for(plan.case)['equipment']}", q(j["residence_time_s"], "s")),
             ("tau_D / residence time", q(j["ratio"], "(-)") + f" (flag above {j['threshold']:g})")]
     cls = "muted"  # an optimistic verdict is also in the report's top box (plan_warnings)
     body = f'<p class="{cls}">{esc(unit_text(j["message"]))}</p>' + table(rows)
@@ -259,6 +261,7 @@ def render_conditions(plan) -> str:
     if c is None:
         return ""
 
+    @hand_drawn
     def draw(fig):
         ax = fig.add_subplot()
         t = c.temperature - 273.15
