@@ -131,8 +131,8 @@ def test_hostile_svg_goes_in_only_as_an_inert_image(tmp_path):
 # ------------------------------------------------------------------ 2. paths a case names
 
 def _case_with(tmp_path: Path, section: str, key: str, value: str) -> Path:
-    text = (DEMO / "agro_ec_nonionic.toml").read_text(encoding="utf-8")
-    shutil.copy(DEMO / "agro_ec_nonionic_sizes.csv", tmp_path / "agro_ec_nonionic_sizes.csv")
+    text = (DEMO / "agro_ew_nonionic.toml").read_text(encoding="utf-8")
+    shutil.copy(DEMO / "agro_ew_nonionic_sizes.csv", tmp_path / "agro_ew_nonionic_sizes.csv")
     p = tmp_path / "case" / "c.toml"
     p.parent.mkdir(exist_ok=True)
     if section == "drops":
@@ -150,10 +150,10 @@ def _run(argv, capsys):
 
 
 def test_demo_table_case_names_drops_file():
-    assert re.search(r'^file = ', (DEMO / "agro_ec_nonionic.toml").read_text(), re.M)
+    assert re.search(r'^file = ', (DEMO / "agro_ew_nonionic.toml").read_text(), re.M)
 
 
-@pytest.mark.parametrize("value", ["../agro_ec_nonionic_sizes.csv", "/etc/passwd", "sub/../../x.csv", ""])
+@pytest.mark.parametrize("value", ["../agro_ew_nonionic_sizes.csv", "/etc/passwd", "sub/../../x.csv", ""])
 def test_drops_file_outside_the_case_folder_is_refused(tmp_path, capsys, value):
     p = _case_with(tmp_path, "drops", "file", value)
     rc, out, err = _run(["solve", str(p)], capsys)

@@ -72,7 +72,7 @@ def test_size_table_with_scaleup_chart_and_tile_show_the_same_d32():
     at.selectbox(key="sel_drops_kind").select("table")
     run(at)
     data = at.session_state["case_dict"]
-    data["drops"]["file"] = "agro_ec_nonionic_sizes.csv"
+    data["drops"]["file"] = "agro_ew_nonionic_sizes.csv"
     at.session_state["case_dict"] = data
     run(at)
     shown = number(metric(at, "Lab d32"))
