@@ -234,6 +234,7 @@ def draw(name: str, *args, key: str) -> None:
     the spec is plain data, so it is cached on the chart's inputs.
     """
     st.vega_lite_chart(_spec(name, args), width="stretch", key=key)
+    export_buttons(_spec(name, args), key)
 
 
 def adsorption_panel(view: dict, where=None) -> None:
@@ -282,8 +283,9 @@ def blend_interface(rows: list[dict], charge_kg: float | None = None) -> alt.Lay
     df = pd.DataFrame(rows)
     line = alt.Chart(df).mark_line(strokeWidth=2).encode(
         x=alt.X("dose_kg:Q", title="blend charge, product as delivered per batch [kg]"),
-        y=alt.Y("coverage:Q", title="share of the interface theta_i [-]", scale=alt.Scale(domain=[0, 1])),
-        color=alt.Color("component:N", title="component", sort=None, legend=alt.Legend(orient="bottom")),
+        y=alt.Y("coverage:Q", title="interface share θ_i [-]", scale=alt.Scale(domain=[0, 1])),
+        color=alt.Color("component:N", title="component", sort=None, legend=alt.Legend(orient="bottom"),
+                        scale=alt.Scale(scheme="category10")),
         tooltip=[alt.Tooltip("component:N"), alt.Tooltip("dose_kg:Q", title="charge [kg]", format=".4g"),
                  alt.Tooltip("coverage:Q", title="coverage [-]", format=".3f")])
     layers = line
@@ -300,11 +302,12 @@ def blend_split(rows: list[dict]) -> alt.Chart:
         y=alt.Y("component:N", title=None, sort=None),
         x=alt.X("kg_active:Q", title="active per batch at the charge [kg]", stack="zero"),
         color=alt.Color("place:N", title="where", sort=["interface", "water", "oil", "micelles"],
-                        legend=alt.Legend(orient="bottom")),
+                        scale=alt.Scale(domain=["interface", "water", "oil", "micelles"],
+                                        range=["#1f5f8b", "#9ecae1", "#ff7f0e", "#999999"])),
         tooltip=[alt.Tooltip("component:N"), alt.Tooltip("place:N", title="where"),
                  alt.Tooltip("kg_active:Q", title="active [kg]", format=".3g"),
                  alt.Tooltip("percent:Q", title="share of the component [%]", format=".1f")],
-    ).properties(height=max(110, 55 * df["component"].nunique() if len(df) else 110))
+    ).properties(height=int(110 + 45 * (df["component"].nunique() if len(df) else 1)))  # room for the bars
 
 
 def coverage_vs_temperature(curve: dict) -> alt.LayerChart:
@@ -312,9 +315,14 @@ def coverage_vs_temperature(curve: dict) -> alt.LayerChart:
     (``temperature_C``, ``coverage``, ``target_coverage``, ``batch_C``, ``storage_C``)."""
     df = pd.DataFrame({"t": curve["temperature_C"], "coverage": curve["coverage"]})
     df = df[df["coverage"].notna()]
+    # at least 0.1 of coverage on the axis: a nearly flat line must not look like a steep one
+    values = list(df["coverage"]) + ([curve["target_coverage"]] if curve.get("target_coverage") is not None else [])
+    lo, hi = (min(values), max(values)) if values else (0.0, 1.0)
+    pad = max(0.0, 0.1 - (hi - lo)) / 2 + 0.01
+    ys = alt.Scale(domain=[max(0.0, lo - pad), min(1.0, hi + pad)])
     line = alt.Chart(df).mark_line(color="#1f5f8b", strokeWidth=2).encode(
         x=alt.X("t:Q", title="temperature [°C]", scale=alt.Scale(zero=False)),
-        y=alt.Y("coverage:Q", title="coverage of the charge theta [-]", scale=alt.Scale(zero=False)),
+        y=alt.Y("coverage:Q", title="coverage of the charge θ [-]", scale=ys),
         tooltip=[alt.Tooltip("t:Q", title="temperature [°C]", format=".1f"),
                  alt.Tooltip("coverage:Q", title="coverage [-]", format=".3f")])
     layers = line
@@ -339,7 +347,7 @@ def prior_posterior(rows: list[dict], x_title: str) -> alt.LayerChart:
     bars = alt.Chart(df).mark_bar(height=16).encode(
         y=y, x=alt.X("p10:Q", title=x_title, scale=alt.Scale(zero=False)), x2="p90:Q", color=color, tooltip=tips)
     mid = alt.Chart(df).mark_tick(color="#d62728", thickness=3, size=22).encode(y=y, x="p50:Q", tooltip=tips)
-    return (bars + mid).properties(height=90)
+    return (bars + mid).properties(height=150)  # Streamlit shrinks a shorter chart onto one row
 
 
 def measured_vs_predicted(rows: list[dict], y_title: str) -> alt.Chart:
@@ -354,3 +362,43 @@ def measured_vs_predicted(rows: list[dict], y_title: str) -> alt.Chart:
                         scale=alt.Scale(domain=["measured", "predicted"], range=["#d62728", "#1f5f8b"])),
         tooltip=[alt.Tooltip("batch:N"), alt.Tooltip("which:N"), alt.Tooltip("value:Q", format=".4g")],
     ).properties(height=240)
+
+
+# ---------------------------------------------------------------------------------------------
+# chart export: the chart's own toolbar offers "Download as PNG" (drawn in the browser); these
+# buttons add SVG and a print-size PNG, converted on this computer by vl-convert when clicked
+
+
+EXPORT_WIDTH = 720  # px of a chart drawn to a file (the page's charts take the column's width)
+
+
+def _export_spec(spec: dict) -> dict:
+    out = dict(spec)
+    if not any(k in out for k in ("width", "hconcat", "vconcat", "concat", "facet", "repeat")):
+        out["width"] = EXPORT_WIDTH
+    return out
+
+
+def chart_file(spec: dict, fmt: str) -> bytes:
+    """Return a Vega-Lite spec drawn as an SVG or PNG file (vl-convert: no browser, no network)."""
+    import vl_convert  # deferred: only a click on an export button needs it
+
+    if fmt == "svg":
+        return vl_convert.vegalite_to_svg(_export_spec(spec)).encode("utf-8")
+    return vl_convert.vegalite_to_png(_export_spec(spec), scale=2)
+
+
+def export_buttons(spec: dict, key: str, where=None) -> None:
+    """Draw 'SVG' and 'PNG' download buttons for a chart; the file is made only when clicked."""
+    import importlib.util  # only to see whether vl-convert is installed, without importing it
+
+    if importlib.util.find_spec("vl_convert") is None:  # not installed: the toolbar's PNG download remains
+        return
+    where = where or st
+    stem = key.removeprefix("chart_") or "chart"
+    with where.container(horizontal=True, gap="small"):
+        for fmt, mime in (("svg", "image/svg+xml"), ("png", "image/png")):
+            st.download_button(f"{fmt.upper()}", data=lambda fmt=fmt: chart_file(spec, fmt),
+                               file_name=f"{stem}.{fmt}", mime=mime, key=f"dl_{key}_{fmt}",
+                               icon=":material/download:", type="tertiary", on_click="ignore",
+                               help=f"this chart as a {fmt.upper()} file")

@@ -124,8 +124,8 @@ if s.get("storage"):
             ("Micelles at storage", num(stg["micelle_mol"], "mol"), "surfactant held in micelles, per batch"),
             ("Tension at storage", num(stg["tension_N_m"] and stg["tension_N_m"] * MN, "mN/m"),
              "of the covered interface"),
-            ("K at storage", num(stg.get("adsorption_constant_m3_mol"), "m³/mol"), "adsorption constant there"),
-        ])
+        ] + ([("K at storage", num(stg["adsorption_constant_m3_mol"], "m³/mol"), "adsorption constant there")]
+             if stg.get("adsorption_constant_m3_mol") is not None else []))
         if target["kind"] == "coverage" and stg["coverage"] < target["value_si"]:
             st.warning(f"**Storage coverage {num(stg['coverage'], '')} is below the target "
                        f"{num(target['value_si'], '')}**: the drops are less covered once the batch cools; consider "

@@ -199,11 +199,13 @@ by_path: dict = {}
 for b in bands:
     by_path.setdefault(b["path"], []).append(b)
 table = []
-for path, pair in by_path.items():
+band_cols = st.columns(2, gap="large")
+for k, (path, pair) in enumerate(by_path.items()):
     unit = pair[0]["unit"]
     title = f"{pair[0]['label']} [{unit}]" if unit else f"{pair[0]['label']} [-]"
-    st.markdown(f"**{state.md_escape(title)}** ({path})")
-    charts.draw("prior_posterior", pair, title, key=f"chart_band_{path}")
+    with band_cols[k % 2]:
+        st.markdown(f"**{state.md_escape(title)}** ({path})")
+        charts.draw("prior_posterior", pair, title, key=f"chart_band_{path}")
     for b in pair:
         table.append({"learned input": f"{b['label']} ({path})", "band": b["which"],
                       "p10": num(b["p10"], unit, 4), "p50": num(b["p50"], unit, 4), "p90": num(b["p90"], unit, 4)})
