@@ -534,6 +534,9 @@ class Surfactant(Section):
     # says so); when it is not the continuous phase the model converts them through the partition
     # coefficient (default: the continuous phase, nothing converted)
     measured_in: Literal["water", "oil"] | None = None
+    # a protein or polymer: the tension of its interface measured at full coverage (the
+    # small-molecule equation of state does not give it)
+    plateau_tension: Q("tension", gt=0) | None = None
 
     @model_validator(mode="after")
     def _excess(self):
@@ -739,25 +742,31 @@ class BlendSection(Section):
         return all(c.price is not None for c in self.component)
 
 
+TARGET_KINDS = ("coverage", "tension", "free_concentration", "surface_load")
+
+
 class Target(Section):
     coverage: Fraction01 | None = None
     tension: Q("tension", gt=0) | None = None
     free_concentration: Q("concentration", gt=0) | None = None
+    # the adsorbed amount per area a protein or polymer should reach (mg/m**2, or umol/m**2)
+    surface_load: Q("surface_load", "surface_excess", gt=0) | None = None
     margin: Q("dimensionless", ge=0, le=5) = Field(default_factory=lambda: Value(0.15, 0.15, "dimensionless"))
 
     @model_validator(mode="after")
     def _one(self):
-        given = [k for k in ("coverage", "tension", "free_concentration") if getattr(self, k) is not None]
+        given = [k for k in TARGET_KINDS if getattr(self, k) is not None]
         if len(given) != 1:
             raise ValueError(
-                "give exactly one target: coverage (0..1), tension (e.g. '35 mN/m') or "
-                f"free_concentration (e.g. '0.5 mM'); got {', '.join(given) if given else 'none'}"
+                "give exactly one target: coverage (0..1), tension (e.g. '35 mN/m'), "
+                f"free_concentration (e.g. '0.5 mM') or surface_load (e.g. '2 mg/m**2'); "
+                f"got {', '.join(given) if given else 'none'}"
             )
         return self
 
     @property
     def kind(self) -> str:
-        return next(k for k in ("coverage", "tension", "free_concentration") if getattr(self, k) is not None)
+        return next(k for k in TARGET_KINDS if getattr(self, k) is not None)
 
 
 class Recommendation(Section):
@@ -1090,9 +1099,9 @@ def _merge_from(data: dict, base_dir: Path | None) -> dict | None:
 # "exactly one of" rules of a section; pydantic skips a section's own check when one of its
 # fields already failed, so these are checked again on the raw table to report every problem
 _CHOICES = (
-    ("target", (("coverage", "tension", "free_concentration"),
-               "give exactly one target: coverage (0..1), tension (e.g. '35 mN/m') or "
-               "free_concentration (e.g. '0.5 mM'); got {given}")),
+    ("target", (("coverage", "tension", "free_concentration", "surface_load"),
+               "give exactly one target: coverage (0..1), tension (e.g. '35 mN/m'), "
+               "free_concentration (e.g. '0.5 mM') or surface_load (e.g. '2 mg/m**2'); got {given}")),
     ("batch", (("volume", "mass"),
                "give the batch size as exactly one of volume (e.g. '2 m**3') or mass (e.g. '2000 kg'); "
                "got {given}")),

@@ -63,8 +63,12 @@ def describe(out: dict, words: dict | None = None) -> str:
         ("coverage", _fmt(s["coverage"], "")),
         ("surface excess", _fmt(s["surface_excess_mol_m2"], "umol/m**2", scale=1e6)),
     ]
+    if s.get("surface_load_kg_m2") is not None and w["free"] == "unadsorbed protein or polymer":
+        srows.append(("surface load", _fmt(s["surface_load_kg_m2"], "mg/m**2", scale=1e6)))
     if s.get("tension_N_m") is not None:
         srows.append(("tension", _fmt(s["tension_N_m"], "mN/m", scale=1e3)))
+    elif s.get("plateau_tension_N_m") is not None:
+        srows.append(("plateau tension (measured)", _fmt(s["plateau_tension_N_m"], "mN/m", scale=1e3)))
     text.append(table(srows, "equilibrium state" + (" (at the CMC ceiling)" if s.get("at_cmc_ceiling") else "")))
     split = out["split_mol"]
     total = sum(v for v in split.values() if v) or 1.0

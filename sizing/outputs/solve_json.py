@@ -55,9 +55,15 @@ def solution_json(sol: Solution, case=None) -> dict:
             "surface_excess_mol_m2": _num(sol.surface_excess),
             "tension_N_m": _num(sol.tension),
             "at_cmc_ceiling": (not feasible) or bool(np.all(sol.state.micelle_mol > 0)),
+            # added later: the adsorbed mass per area (what a protein's surface load means)
+            "surface_load_kg_m2": _num(np.asarray(sol.surface_excess) * np.asarray(i.molar_mass)),
+            **({"plateau_tension_N_m": _num(i.plateau_tension)} if np.all(np.isfinite(i.plateau_tension)) else {}),
         },
         "split_mol": split,
-        "target": {"kind": i.target_kind, "value_si": _num(i.target_value), "margin": _num(i.margin)},
+        "target": {"kind": i.target_kind, "value_si": _num(i.target_value), "margin": _num(i.margin),
+                   **({"given": "surface_load", "surface_load_mol_m2": _num(i.target_surface_load),
+                       "surface_load_kg_m2": _num(np.asarray(i.target_surface_load) * np.asarray(i.molar_mass))}
+                      if np.all(np.isfinite(i.target_surface_load)) else {})},
         "phases": {
             "continuous": cont, "dispersed": disp,
             "continuous_volume_m3": vc, "dispersed_volume_m3": vd,
