@@ -128,15 +128,18 @@ def _replace_active(data: dict, notes: list, what: str) -> None:
     loaded = st.session_state.get(state.LOADED)
     state.set_case(data, str(st.session_state.get(state.SOURCE) or "case"))
     st.session_state[state.LOADED] = loaded  # the edits before the switch still count as edits
-    st.session_state["blend_switched"] = what + (" (" + "; ".join(notes) + ")" if notes else "")
+    st.session_state["blend_switched"] = (what + (" (" + "; ".join(notes) + ")" if notes else ""), state.case_toml())
 
 
 def _switch_panel() -> None:
     """Turn a single surfactant into a two-component blend and back, asking first; undoable."""
     done = st.session_state.get("blend_switched")
+    if done and done[1] != state.case_toml():  # the new case has been edited since: the note goes
+        st.session_state.pop("blend_switched", None)
+        done = None
     if done:
         u1, u2 = st.columns([3, 1])
-        u1.success(f"{done}. The case before the change is kept aside.", icon=":material/swap_horiz:")
+        u1.success(f"{done[0]}. The case before the change is kept aside.", icon=":material/swap_horiz:")
         if u2.button("Undo", key="btn_undo_blend_switch", icon=":material/undo:"):
             state.undo_replace()
             st.session_state.pop("blend_switched", None)

@@ -150,6 +150,14 @@ if st.session_state.get("trials_run_error"):
 run = st.session_state.get(RUN)
 if not run:
     st.stop()
+if use == "table" and run["name"] == "the table":
+    try:
+        same = Path(run["file"]).read_text(encoding="utf-8") == views.trials_csv(_rows_of(edited))
+    except OSError:
+        same = False
+    if not same:
+        st.info("The table has changed since the last calibration: the figures below are for the rows as they were. "
+                "Press **Learn from the trials** again.", icon=":material/info:")
 
 try:
     cal = state.view("calibration_view", trials_path=run["file"], digest=run["digest"])
