@@ -147,3 +147,37 @@ def test_library_save_and_reuse(app, tmp_path):
         sync_api.expect(page.get_by_role("textbox", name="CMC [concentration, e.g. 8.2 mM]")).to_have_value("0.087 mM")
         browser.close()
     assert not blocked, f"requests left the machine: {blocked[:5]}"
+
+
+def test_every_chart_downloads_as_svg_and_png(app, tmp_path):
+    """Each chart of the Dose balance page has SVG and PNG buttons; the files are what they say
+    (an SVG root element that Python's XML parser reads; the PNG signature of the PNG spec,
+    ISO/IEC 15948: bytes 89 50 4E 47 0D 0A 1A 0A); no request leaves the machine."""
+    import xml.etree.ElementTree as ET
+
+    url, _ = app
+    sync_api = pytest.importorskip("playwright.sync_api", reason="Playwright (PyPI) is not installed")
+    pytest.importorskip("vl_convert", reason="vl-convert-python is not installed")
+    out = shots(tmp_path)
+    blocked: list[str] = []
+    with sync_api.sync_playwright() as p:
+        browser, context = _guarded(sync_api, p, blocked)
+        page = context.new_page()
+        page.goto(url)
+        page.get_by_role("heading", name="Case", level=1).wait_for()
+        nav(page, "Dose balance")
+        page.get_by_test_id("stVegaLiteChart").last.wait_for()
+        n_charts = page.get_by_test_id("stVegaLiteChart").count()
+        svg = page.get_by_role("button", name="SVG", exact=True)
+        png = page.get_by_role("button", name="PNG", exact=True)
+        assert n_charts >= 2 and svg.count() == n_charts and png.count() == n_charts
+        with page.expect_download() as info:
+            svg.nth(1).click()
+        root = ET.fromstring(Path(info.value.path()).read_bytes())
+        assert root.tag.endswith("svg") and info.value.suggested_filename.endswith(".svg")
+        with page.expect_download() as info:
+            png.nth(1).click()
+        assert Path(info.value.path()).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+        page.screenshot(path=str(out / "dose_export_buttons.png"))
+        browser.close()
+    assert not blocked, f"requests left the machine: {blocked[:5]}"

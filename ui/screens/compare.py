@@ -7,14 +7,15 @@ import streamlit as st
 from sizing import views
 from sizing.case import parse_case
 from sizing.errors import InputError
-from ui import state
+from ui import charts, state
 from ui.charts import num
 
 state.ensure_case()
 st.title("Scenarios")
 st.caption("Keep variants of the case under a name (lab against plant d32, two surfactants, two batch sizes) "
            "and compare them: one table, one dose-against-coverage chart. Values that differ from the first "
-           "scenario are marked ◆.")
+           "scenario are marked ◆. Each chart downloads as SVG or PNG (the buttons under it; the chart's own "
+           "toolbar also offers 'Download as PNG').")
 SCEN = state.SCENARIOS
 scen: dict = st.session_state.setdefault(SCEN, {})
 
@@ -69,6 +70,7 @@ if curves:
         tooltip=["scenario:N", alt.Tooltip("coverage:Q", format=".3f"), alt.Tooltip("kg_product:Q", format=".4g")],
     ).properties(height=340)
     st.altair_chart(chart, width="stretch", key="chart_scenarios")
+    charts.export_buttons(chart.to_dict(), "chart_scenarios")
 with st.container(horizontal=True):
     drop = st.selectbox("Scenario", list(scen), key="sel_scenario")
     if st.button("Open it as the working case", key="btn_open_scenario"):
