@@ -31,14 +31,15 @@ def _replace(want) -> None:
     st.session_state.pop(PREV_SLOTS, None)
 
 
-def _workspace_zip() -> bytes:
-    """The working case, the files it names, the fits' lab CSVs and the scenarios as one zip."""
+def _workspace_zip():
+    """Return a function making the zip of the working case, the files it names, the fits' lab CSVs
+    and the scenarios (run when the button is clicked, on another thread: the session is read now)."""
     base = Path(st.session_state[state.BASE])
     lab = {k: Path(st.session_state[k]).name for k in state.LAB_SLOTS
            if st.session_state.get(k) and Path(st.session_state[k]).parent == base}
-    ws = workspace_file.collect(state.ensure_case(), base, extra=lab,
-                                scenarios=st.session_state.get(state.SCENARIOS, {}))
-    return workspace_file.pack(ws)
+    case = views.case_copy(state.ensure_case())
+    scenarios = {k: views.case_copy(v) for k, v in st.session_state.get(state.SCENARIOS, {}).items()}
+    return lambda: workspace_file.pack(workspace_file.collect(case, base, extra=lab, scenarios=scenarios))
 
 
 def _restore(name: str, ws) -> None:
