@@ -256,6 +256,16 @@ def applicable_assumptions(assumptions, has_cmc: bool, system: str) -> tuple[str
             continue
         if system == "foam" and a.startswith("The partition coefficient"):
             continue
+        if a.startswith("The isotherm constants, the CMC and the partition coefficient"):
+            held = ["the CMC"] * has_cmc + ["the partition coefficient"] * (system != "foam")
+            if len(held) < 2:
+                a = a.replace("The isotherm constants, the CMC and the partition coefficient hold",
+                              "The isotherm constants" + "".join(f" and {h}" for h in held) + " hold", 1)
+        if a.startswith("Equilibrium: adsorption, partitioning and micellisation have"):
+            steps = ["adsorption"] + ["partitioning"] * (system != "foam") + ["micellisation"] * has_cmc
+            a = a.replace("adsorption, partitioning and micellisation have",
+                          (", ".join(steps[:-1]) + " and " + steps[-1] + " have") if len(steps) > 1
+                          else "adsorption has", 1)
         out.append(a)
     return tuple(out)
 

@@ -247,7 +247,8 @@ def render_coverage_chart(plan) -> str:
 
     return section("coverage", "Dose against coverage", chart(
         draw, "Coverage of the interface at equilibrium against the product charged per batch [kg]; "
-              "the dashed line is the target, the dotted line the largest coverage the CMC allows."))
+              "the dashed line is the target"
+              + (", the dotted line the largest coverage the CMC allows." if math.isfinite(cv.ceiling_kg_product) else ".")))
 
 
 def render_d32_chart(plan) -> str:
@@ -294,12 +295,15 @@ def render_trial(plan) -> str:
     head = ("level [x charge]", "product [kg/batch]", "active [kg/batch]", "product [wt% of batch]",
             "expected coverage [-]", f"{words_for(plan.case)['free']} [mM]", "tension [mN/m]", "micelles [% of dose]",
             "batches")
+    if not words_for(plan.case)["has_cmc"]:  # no micelles column without a CMC
+        rows, head = [r[:7] + r[8:] for r in rows], head[:7] + head[8:]
     total = sum(t.kg_product * t.batches for t in plan.trial)
-    body = (table(rows, head, numeric_cols=(1, 2, 3, 4, 5, 6, 7, 8))
+    body = (table(rows, head, numeric_cols=tuple(range(1, len(head))))
             + f"<p>{len(plan.trial)} levels, {sum(t.batches for t in plan.trial)} batches in all, "
               f"{esc(q(total, 'kg'))} of product for the whole trial. Levels are multiples of the "
               f"recommended charge, rounded to the nearest {esc(q(plan.recommendation.increment_kg, 'kg'))} step; "
-              f"coverage, {words_for(plan.case)['free']}, tension and micelles are the forward equilibrium for the amount "
+              f"coverage, {words_for(plan.case)['free']}, tension"
+              f"{' and micelles' if words_for(plan.case)['has_cmc'] else ''} are the forward equilibrium for the amount "
               "charged.</p>")
     d32_um = solution_json(plan.solution, plan.case)["d32_m"] * 1e6
     sysname, cont = plan.case.case.system, plan.case.case.continuous
@@ -326,7 +330,8 @@ def render_unreachable(plan) -> str:
 def render_assumptions(plan) -> str:
     comps = tuple(plan.inputs.blend.names) if getattr(plan.inputs, "blend", None) is not None else ()
     rows = [(_input_name(a["path"], comps) if a["path"] and a["label"] == a["path"] else a["label"],
-             unit_text(a["value"]), a["path"], a["source"]) for a in plan.assumptions]
+             unit_text(a["value"]), a["path"], a["source"]) for a in plan.assumptions
+            if words_for(plan.case)["has_cmc"] or not a["path"].endswith(".cmc")]  # no CMC line without one
     body = table(rows, ("parameter", "value as given", "case path", "where it came from"), numeric_cols=())
     body += "<p>Model:</p><ul>" + "".join(
         f"<li>{esc(t)}</li>" for t in applicable_assumptions(plan.model_assumptions, words_for(plan.case)["has_cmc"],

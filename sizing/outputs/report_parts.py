@@ -74,12 +74,12 @@ def render_achievable(plan) -> str:
         ax.set_ylabel("d32 reached [um]")
         ax.legend(fontsize=7)
 
+    eq = words_for(plan.case)["equipment"]  # result.json says 'homogeniser'; the table the case's word
     rows = [(f"{lv['level']:g} x", q(lv["kg_product"], "kg"), q(lv["achievable_d32_m"], "um", scale=1e6),
-             lv["limited_by"]) for lv in j["levels"]]
+             eq if lv["limited_by"] == "homogeniser" else lv["limited_by"]) for lv in j["levels"]]
     body = chart(draw, "Surfactant-limited drop size: the d32 a charge can reach [um] against the product "
                        "charged [kg]; right of the knee more surfactant no longer makes smaller drops.")
     body += table(rows, ("level", "product [kg/batch]", "d32 reached [um]", "limited by"), numeric_cols=(1, 2))
-    eq = words_for(plan.case)["equipment"]
     body += (f"<p>Knee dose {esc(q(j['knee_dose_kg_product'], 'kg product'))}: the {esc(eq)}'s own d32 "
              f"{esc(q(j['homogeniser_d32_m'], 'um', scale=1e6))} needs at least this much at coverage "
              f"{esc(q(j['min_coverage'], '(-)'))}. Below it the surfactant, not the {esc(eq)}, limits "
