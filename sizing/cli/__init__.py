@@ -29,6 +29,7 @@ VERBS = {
     "achievable": "drop size reached with a dose when surfactant may limit it",
     "calibrate": "update the case's spreads from plant trials and set the next charge",
     "compare": "several cases side by side: dose, coverage, d32, area",
+    "homologues": "a technical ethoxylate as homologue cuts (Poisson EO spread): [blend] block, apparent CMC",
     "bench": "benchmark the vectorised balance against a per-case loop",
     "app": "start the Streamlit workbench in the browser (127.0.0.1)",
 }
