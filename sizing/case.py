@@ -633,6 +633,7 @@ class BlendComponent(Section):
     gibbs_prefactor: Q("dimensionless", ge=1, le=3) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
     partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
     price: Price | None = None
+    diffusivity: Q("diffusivity", gt=0) | None = None  # of its monomer, for the adsorption-speed check
     reference_temperature: Q("temperature", gt=0) | None = None
     micellisation_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
         default_factory=lambda: Value(0.0, 0.0, "molar_energy"))

@@ -116,6 +116,12 @@ class AdsorptionCheck:
     surface_excess_mol_m2: float
     diffusivity_m2_s: float
     message: str
+    # a blend: one dict per component (name, share of the interface, c, Gamma, D, tau_D, ratio);
+    # the scalar fields above are those of the slowest component holding at least MIN_SHARE of it
+    components: tuple = ()
+
+
+MIN_SHARE = 0.05  # a blend component with less of the interface than this does not set the verdict
 
 
 def adsorption_check(case, solution=None) -> AdsorptionCheck | None:
@@ -124,8 +130,8 @@ def adsorption_check(case, solution=None) -> AdsorptionCheck | None:
     Needs ``surfactant.diffusivity`` and ``[process] residence_time``; uses the free monomer and
     surface excess of the solved state (the target, or ``solution`` if given).
     """
-    if case.surfactant is None:  # a blend: one diffusivity per component is not modelled yet
-        return None
+    if case.surfactant is None:
+        return _blend_check(case, solution)
     d = case.surfactant.diffusivity
     proc = getattr(case, "process", None)
     t_res = proc.residence_time if proc is not None else None
@@ -152,3 +158,47 @@ def adsorption_check(case, solution=None) -> AdsorptionCheck | None:
         ward_tordai_time_s=float(a.ward_tordai_time), residence_time_s=float(a.residence_time),
         ratio=float(a.ratio), threshold=FLAG_RATIO, optimistic=optimistic,
         free_concentration_mol_m3=c, surface_excess_mol_m2=g, diffusivity_m2_s=d.si, message=message)
+
+
+def _blend_check(case, solution=None) -> AdsorptionCheck | None:
+    """The adsorption-speed check of a blend: each component diffuses to the interface on its own
+    (``tau_i = (Gamma_i / c_i)**2 / D_i``, its own free monomer and surface excess); the verdict is
+    that of the slowest component holding at least :data:`MIN_SHARE` of the interface."""
+    comps = case.blend.component
+    proc = getattr(case, "process", None)
+    t_res = proc.residence_time if proc is not None else None
+    if t_res is None or any(c.diffusivity is None for c in comps):
+        return None
+    sol = solve_case(case) if solution is None else solution
+    st = sol.components
+    gis = np.asarray(sol.inputs.blend.max_surface_excess, dtype=float)
+    c = np.asarray(st.free_concentration, dtype=float).reshape(-1)
+    g = (np.asarray(st.coverage, dtype=float) * gis).reshape(-1)
+    d = np.array([x.diffusivity.si for x in comps])
+    if not np.all(c > 0):
+        raise InputError("adsorption check: a component's solved free monomer concentration is 0; nothing to adsorb")
+    a = adsorption_speed(g, c, d, t_res.si)
+    share = g / np.sum(g)
+    rows = tuple({"name": x.name, "interface_share": float(sh), "free_concentration_mol_m3": float(ci),
+                  "surface_excess_mol_m2": float(gi), "diffusivity_m2_s": float(di), "diffusion_time_s": float(t),
+                  "ratio": float(r), "optimistic": bool(o)}
+                 for x, sh, ci, gi, di, t, r, o in zip(comps, share, c, g, d, a.diffusion_time, a.ratio, a.optimistic))
+    main = [i for i in range(len(comps)) if share[i] >= MIN_SHARE] or list(range(len(comps)))
+    k = max(main, key=lambda i: float(a.diffusion_time[i]))
+    optimistic = bool(a.optimistic[k])
+    figures = (f"the slowest component holding {MIN_SHARE:.0%} or more of the interface, {comps[k].name}: "
+               f"tau_D = ({g[k] * 1e6:.3g} umol/m**2 / {c[k]:.3g} mM)**2 / {d[k]:.3g} m**2/s = "
+               f"{float(a.diffusion_time[k]):.3g} s against a residence time of {t_res.si:.3g} s "
+               f"(ratio {float(a.ratio[k]):.3g})")
+    if optimistic:
+        message = ("ADSORPTION MAY BE TOO SLOW: " + figures + f"; above {FLAG_RATIO:g} the new interface is not "
+                   "covered while drops are made, so the equilibrium dose is OPTIMISTIC (the faster components "
+                   "take the fresh interface first); expect larger drops, and test a higher level in the trial")
+    else:
+        message = "adsorption fast enough: " + figures
+    return AdsorptionCheck(
+        depth_m=float(a.depth[k]), diffusion_time_s=float(a.diffusion_time[k]),
+        ward_tordai_time_s=float(a.ward_tordai_time[k]), residence_time_s=float(t_res.si),
+        ratio=float(a.ratio[k]), threshold=FLAG_RATIO, optimistic=optimistic,
+        free_concentration_mol_m3=float(c[k]), surface_excess_mol_m2=float(g[k]), diffusivity_m2_s=float(d[k]),
+        message=message, components=rows)
