@@ -165,16 +165,20 @@ def _fsync_dir(folder: Path) -> None:
         os.close(fd)
 
 
-def _write_new(path: Path, data: bytes, mode: int | None) -> None:
-    """Create ``path`` (must not exist), write, fsync; mode from the umask unless given."""
+def _write_new(path: Path, data, mode: int | None) -> None:
+    """Create ``path`` (must not exist), write ``data`` (bytes or an iterable of byte chunks), fsync.
+
+    The mode comes from the umask unless given.
+    """
     fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_NOFOLLOW", 0), 0o666)
     try:
         if mode is not None:
             os.fchmod(fd, mode)
-        view = memoryview(data)
-        while view:
-            n = os.write(fd, view)
-            view = view[n:]
+        for chunk in ((data,) if isinstance(data, (bytes, bytearray, memoryview)) else data):
+            view = memoryview(chunk)
+            while view:
+                n = os.write(fd, view)
+                view = view[n:]
         os.fsync(fd)
     finally:
         os.close(fd)
@@ -184,8 +188,9 @@ def _tmp_name(folder: Path, name: str) -> Path:
     return folder / f".{name}.{secrets.token_hex(6)}.tmp"
 
 
-def write_atomic(path: Path | str, data: str | bytes) -> None:
-    """Write ``data`` (text as UTF-8, or bytes) through a temporary file, ``fsync`` and a rename.
+def write_atomic(path: Path | str, data) -> None:
+    """Write ``data`` (text as UTF-8, bytes, or an iterable of byte chunks written as they come,
+    so a large file need not be held in memory) through a temporary file, ``fsync`` and a rename.
 
     A symlink at ``path`` is followed (its target is replaced, the link stays); a folder, device,
     FIFO or socket is refused with :class:`InputError`.  A replaced file keeps its permission

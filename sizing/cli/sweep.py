@@ -2,8 +2,9 @@
 
 A grid that fits on a screen (:data:`SCREEN_ROWS` rows) is printed whole; a larger one as a
 summary (rows, the least and largest value of each column, where the target is met), with the full
-table in the CSV.  The CSV is built column by column with pyarrow (numbers to 10 significant
-digits, empty cells where there is no value) and written through :func:`sizing.files.write_atomic`.
+table in the CSV.  The CSV is built column by column with pyarrow in blocks of rows (numbers to 10
+significant digits, empty cells where there is no value) and streamed block by block through
+:func:`sizing.files.write_atomic`.
 """
 
 from __future__ import annotations
@@ -17,7 +18,7 @@ import numpy as np
 
 from ..case import load_case
 from ..errors import InputError
-from ..planning.sweep import sweep
+from ..planning.sweep import sweep_columns
 from .common import write_atomic
 
 SCREEN_ROWS = 40  # at most this many rows are printed as a table; more give a summary
@@ -59,91 +60,141 @@ def _rounded(x: np.ndarray, digits: int = DIGITS) -> np.ndarray:
     return np.where(ok, r, x)
 
 
+def _float_array(pa, x: np.ndarray, missing: np.ndarray | None = None):
+    """Wrap a float64 array as a pyarrow array without copying, ``missing`` as nulls.
+
+    Built from buffers, since ``pyarrow.array`` on a numpy array imports pandas (half a second).
+    """
+    x = np.ascontiguousarray(x, dtype=np.float64)
+    validity, nulls = None, 0
+    if missing is not None and missing.any():
+        validity, nulls = pa.py_buffer(np.packbits(~missing, bitorder="little")), int(missing.sum())
+    return pa.Array.from_buffers(pa.float64(), x.size, [validity, pa.py_buffer(x)], null_count=nulls)
+
+
+def _text_scalar(pa, text: str):
+    """A pyarrow large-string scalar built from buffers (``pyarrow.scalar`` imports pandas)."""
+    raw = text.encode("utf-8")
+    offsets = pa.py_buffer(np.array([0, len(raw)], dtype=np.int64))
+    return pa.Array.from_buffers(pa.large_string(), 1, [None, offsets, pa.py_buffer(raw)])[0]
+
+
 def _text_column(v: np.ndarray, pa, pc):
     """Return one column as pyarrow text: ``True``/``False``, or numbers with nan as an empty cell."""
     if v.dtype == bool:
-        return pa.array(np.where(v, "True", "False"), type=pa.large_string())
+        flags = pa.Array.from_buffers(pa.bool_(), v.size, [None, pa.py_buffer(np.packbits(v, bitorder="little"))])
+        return pc.if_else(flags, _text_scalar(pa, "True"), _text_scalar(pa, "False"))
     v = v.astype(float)
     if v.size and v[0] == v.min() == v.max():  # one value over the block (an input held, a ceiling)
-        return pa.repeat(pc.cast(pa.array(_rounded(v[:1])), pa.large_string())[0], v.size)
+        return pa.repeat(pc.cast(_float_array(pa, _rounded(v[:1])), pa.large_string())[0], v.size)
     r = _rounded(v)
-    return pc.fill_null(pc.cast(pa.array(r, mask=np.isnan(r)), pa.large_string()), "")
+    return pc.fill_null(pc.cast(_float_array(pa, r, np.isnan(r)), pa.large_string()), _text_scalar(pa, ""))
 
 
-def csv_bytes(df, chunk_rows: int = 1 << 14) -> bytearray:
-    """Return the CSV text of a sweep table (UTF-8), built column by column in blocks of rows.
+def _columns(table) -> dict[str, np.ndarray]:
+    """The columns of a sweep table (a dict of arrays or a pandas DataFrame) as a dict of arrays."""
+    return {str(c): np.asarray(table[c]) for c in table}
+
+
+def csv_chunks(table, chunk_rows: int = 1 << 16):
+    """Yield the CSV text of a sweep table (UTF-8 bytes), the header first, then blocks of rows.
 
     The header is the table's own column names; numbers carry :data:`DIGITS` significant digits,
     ``feasible`` is ``True``/``False`` and a missing value (nan) is an empty cell, as pandas'
-    ``to_csv`` writes them.  Each block's columns become text in one pyarrow call each and are
-    joined row-wise in one more, so memory beyond the table is about the CSV's own size.
+    ``to_csv`` writes them.  Each block's columns become text in one pyarrow call each and the
+    block is written by pyarrow's CSV writer (:func:`pyarrow.csv.write_csv`, no quoting: the cells
+    are numbers and words), so memory beyond the table is one block's text, whatever the grid.
+    """
+    pa = importlib.import_module("pyarrow")  # deferred: pyarrow is heavy and only the CSV needs it
+    pc = importlib.import_module("pyarrow.compute")
+    pcsv = importlib.import_module("pyarrow.csv")
+
+    head = io.StringIO()
+    cols = _columns(table)
+    csv.writer(head, lineterminator="\n").writerow(list(cols))
+    yield head.getvalue().encode("utf-8")
+    names = [f"c{i}" for i in range(len(cols))]  # the header is written above, as csv quotes it
+    options = pcsv.WriteOptions(include_header=False, quoting_style="none", batch_size=chunk_rows)
+    columns = list(cols.values())
+    n = len(columns[0]) if columns else 0
+    for lo in range(0, n, chunk_rows):
+        text = [_text_column(c[lo: lo + chunk_rows], pa, pc) for c in columns]
+        sink = pa.BufferOutputStream()
+        pcsv.write_csv(pa.Table.from_arrays(text, names=names), sink, write_options=options)
+        yield sink.getvalue()
+
+
+def csv_bytes(table, chunk_rows: int = 1 << 16) -> bytes:
+    """Return the whole CSV text of a sweep table (UTF-8), as :func:`csv_chunks` writes it.
 
     The same text as pandas' ``to_csv(index=False, float_format="%.10g")`` (reference library):
 
     >>> import pandas as pd
     >>> df = pd.DataFrame({"d32 [um]": [1.0, 2.5], "feasible": [True, False],
     ...                    "dose [kg]": [1 / 3, np.nan], "area [m**2]": [1.26e6, 2.0 / 3 * 1e-7]})
-    >>> bytes(csv_bytes(df)).decode() == df.to_csv(index=False, float_format="%.10g").replace("e-08", "e-8")
+    >>> csv_bytes(df).decode() == df.to_csv(index=False, float_format="%.10g").replace("e-08", "e-8")
     True
     """
-    pa = importlib.import_module("pyarrow")  # deferred: pyarrow is heavy and only the CSV needs it
-    pc = importlib.import_module("pyarrow.compute")
-
-    head = io.StringIO()
-    csv.writer(head, lineterminator="\n").writerow(list(df.columns))
-    out = bytearray(head.getvalue().encode("utf-8"))
-    comma = pa.scalar(",", pa.large_string())
-    for lo in range(0, len(df), chunk_rows):
-        block = df.iloc[lo: lo + chunk_rows]  # a block at a time: no copy of the whole table
-        cols = [_text_column(block[name].to_numpy(), pa, pc) for name in df.columns]
-        rows = pc.binary_join_element_wise(*cols, comma) if len(cols) > 1 else cols[0]
-        offsets = np.frombuffer(rows.buffers()[1], dtype=np.int64)[rows.offset: rows.offset + len(rows) + 1]
-        start = int(offsets[0])
-        data = np.frombuffer(rows.buffers()[2], dtype=np.uint8)[start: int(offsets[-1])]
-        out += np.insert(data, offsets[1:] - start, np.uint8(10)).data  # a newline after each row
-    return out
+    return b"".join(bytes(c) for c in csv_chunks(table, chunk_rows))
 
 
 def _num(x) -> str:
     return "-" if not np.isfinite(x) else f"{x:.5g}"
 
 
-def summary(df, n_inputs: int, csv_path: str | None) -> str:
+def _grid_shape(cols: dict, n_inputs: int) -> tuple[int, ...]:
+    """The grid's shape from its ravelled input columns (the last input varies fastest).
+
+    The first input holds each of its values for a run of rows as long as the last input's
+    points, so the first change in it gives that length without sorting a million values.
+    """
+    first = next(iter(cols.values()))
+    n = len(first)
+    if n_inputs == 1 or n == 0:
+        return (n,)
+    changes = np.flatnonzero(first != first[0])
+    inner = int(changes[0]) if changes.size else n
+    return (n // inner, inner)
+
+
+def summary(table, n_inputs: int, csv_path: str | None) -> str:
     """Return the terminal text of a table too long to print: size, column ranges, where the target is met."""
-    n = len(df)
-    inputs = list(df.columns[:n_inputs])
-    grid = " x ".join(f"{df[c].nunique()}" for c in inputs)
+    cols = _columns(table)
+    n = len(cols["feasible"])
+    inputs = list(cols)[:n_inputs]
+    grid = " x ".join(f"{k}" for k in _grid_shape(cols, n_inputs))
     lines = [f"sweep: {n:,} grid points ({grid} over {', '.join(inputs)}); the table is too long to print"]
     lines.append(f"the full table is in {csv_path}" if csv_path else "give --csv FILE to keep the full table")
-    width = max(len(c) for c in df.columns)
+    width = max(len(c) for c in cols)
     lines += ["", f"  {'column':<{width}}  {'least':>12}  {'largest':>12}  {'no value':>9}"]
-    for c in df.columns:
+    for c in cols:
         if c == "feasible":
             continue
-        v = df[c].to_numpy(dtype=float)
+        v = cols[c].astype(float)
         fin = v[np.isfinite(v)]
         lo, hi = (fin.min(), fin.max()) if fin.size else (np.nan, np.nan)
         lines.append(f"  {c:<{width}}  {_num(lo):>12}  {_num(hi):>12}  {n - fin.size:>9,}")
-    met = df["feasible"].to_numpy(dtype=bool)
+    met = cols["feasible"].astype(bool)
     k = int(met.sum())
     lines += ["", f"target met at {k:,} of {n:,} points ({100 * k / n:.3g} %)"]
     if 0 < k < n:
         for c in inputs:
-            v = df[c].to_numpy(dtype=float)[met]
+            v = cols[c].astype(float)[met]
             lines.append(f"  where it is met: {c} from {_num(v.min())} to {_num(v.max())}")
     return "\n".join(lines)
 
 
-def _flat_inputs(df, n_inputs: int) -> list[str]:
+def _flat_inputs(table, n_inputs: int) -> list[str]:
     """Return the swept inputs along which the dose does not change (the grid is the ravelled outer product)."""
-    dose = next((c for c in df.columns if c.startswith("dose product")), None)
+    cols = _columns(table)
+    dose = next((c for c in cols if c.startswith("dose product")), None)
     if dose is None:
         return []
-    inputs = list(df.columns[:n_inputs])
-    shape = tuple(df[c].nunique() for c in inputs)
-    if int(np.prod(shape)) != len(df):
+    inputs = list(cols)[:n_inputs]
+    shape = _grid_shape(cols, n_inputs)
+    if int(np.prod(shape)) != len(cols[dose]):
         return []
-    a = df[dose].to_numpy(dtype=float).reshape(shape)
+    a = cols[dose].astype(float).reshape(shape)
     out = []
     for axis, col in enumerate(inputs):
         first = np.take(a, [0], axis=axis)
@@ -155,19 +206,21 @@ def _flat_inputs(df, n_inputs: int) -> list[str]:
 
 def run(args) -> int:
     case = load_case(args.case)
-    df = sweep(case, args.vary)
+    cols = sweep_columns(case, args.vary)  # no pandas unless the table is printed whole
     n_inputs = len(args.vary)
-    if len(df) <= SCREEN_ROWS:
-        print(df.to_string(index=False, float_format=lambda x: f"{x:.5g}"))
+    if len(cols["feasible"]) <= SCREEN_ROWS:
+        import pandas as pd  # deferred: pandas is heavy and only the printed table needs it
+
+        print(pd.DataFrame(cols).to_string(index=False, float_format=lambda x: f"{x:.5g}"))
     else:
-        print(summary(df, n_inputs, args.csv))
-    for col in _flat_inputs(df, n_inputs):
+        print(summary(cols, n_inputs, args.csv))
+    for col in _flat_inputs(cols, n_inputs):
         print(f"note: the dose does not change with {col} in this case"
               + (" (the temperature enters only the tension, through R T in the equation of state; the "
                  "isotherm constants are taken as given)" if "temperature" in col else ""), file=sys.stderr)
     if args.csv:
         try:
-            write_atomic(args.csv, csv_bytes(df))
+            write_atomic(args.csv, csv_chunks(cols))  # streamed: one block of rows in memory at a time
         except OSError as exc:
             raise InputError(f"--csv: cannot write {args.csv} ({exc.strerror or exc})") from None
         print(f"\nwrote {args.csv}")

@@ -138,9 +138,30 @@ def sweep(case, specs: list[str]):
 
     Notes
     -----
-    The columns after the inputs are the dose for the target (nan where the target is not
+    The columns of :func:`sweep_columns`, each kept as its own array (no copy of the table).
+    """
+    import pandas as pd  # deferred: pandas is heavy and only the table needs it
+
+    # copy=False: the columns stay separate arrays (pandas would otherwise stack a 1e6-row grid
+    # into one block, a copy of the whole table)
+    return pd.DataFrame(sweep_columns(case, specs), copy=False)
+
+
+def sweep_columns(case, specs: list[str]) -> dict[str, np.ndarray]:
+    """Return the sweep table as columns: header (units in brackets) -> one array over the grid.
+
+    Parameters
+    ----------
+    case : a validated case
+    specs : one or two ``NAME=LOW..HIGH:N`` texts
+
+    Notes
+    -----
+    The grid is the ravelled outer product of the variations (the last varies fastest).  The
+    columns after the inputs are the dose for the target (nan where the target is not
     reachable), the charge (dose x (1 + margin), rounded up to the case's increment or the
     automatic step), the equilibrium state for the target, the area and the CMC ceiling.
+    Without pandas, so a large grid streams to CSV without that import.
     """
     if not 1 <= len(specs) <= 2:
         raise InputError(f"--vary: expected one or two variations, got {len(specs)}")
@@ -168,7 +189,8 @@ def sweep(case, specs: list[str]):
     data = {v.header: s.ravel() for v, s in zip(vs, shown)}
 
     def col(x):
-        return np.broadcast_to(np.asarray(x, dtype=float), (size,)).copy()
+        a = np.asarray(x, dtype=float)
+        return a if a.shape == (size,) else np.broadcast_to(a, (size,)).copy()
 
     data.update({
         "feasible": np.broadcast_to(sol.feasible, (size,)).copy(),
@@ -185,6 +207,4 @@ def sweep(case, specs: list[str]):
     })
     if "drops.d32" not in flat:
         data["d32 [um]"] = col(sol.d32) * 1e6
-    import pandas as pd  # deferred: pandas is heavy and only the table needs it
-
-    return pd.DataFrame(data)
+    return data
