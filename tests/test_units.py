@@ -191,6 +191,9 @@ def test_case_file_and_cli_option_read_the_comma(tmp_path, capsys):
     assert rc0 == rc1 == 0
     a, b = json.loads(ref.out), json.loads(got.out)
     assert b.pop("dose_given") == "2,5 kg" and a.pop("dose_given") == "2.5 kg"
+    basis_a, basis_b = a.pop("dose_basis"), b.pop("dose_basis")  # echoes the text as given
+    assert {k: v for k, v in basis_a.items() if k not in ("text", "echo")} == \
+        {k: v for k, v in basis_b.items() if k not in ("text", "echo")}
     assert a == b
 
     bad = tmp_path / "bad.toml"
