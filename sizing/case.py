@@ -506,7 +506,24 @@ def _check_measured_in(s, info) -> None:
                          f"{continuous}")
 
 
-class Surfactant(Section):
+class _Conditions(Section):
+    """The keys a ``[surfactant]`` and a ``[[blend.component]]`` share: how the CMC and K move with
+    the process conditions (``sizing.physics.conditions``), the ion's charge, the Krafft and cloud
+    points, and the monomer's diffusivity (the adsorption-speed check)."""
+
+    diffusivity: Q("diffusivity", gt=0) | None = None  # of the monomer, for the adsorption-speed check
+    reference_temperature: Q("temperature", gt=0) | None = None
+    micellisation_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
+        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
+    adsorption_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
+        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
+    counterion_binding: Q("dimensionless", ge=0, le=1) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
+    charge: Literal["nonionic", "anionic", "cationic", "amphoteric"] | None = None  # of the surface-active ion
+    krafft_point: Q("temperature", gt=0) | None = None
+    cloud_point: Q("temperature", gt=0) | None = None
+
+
+class Surfactant(_Conditions):
     name: str = "surfactant"
     from_: str | None = Field(default=None, alias="from")
     molar_mass: Q("molar_mass", gt=0)
@@ -522,16 +539,6 @@ class Surfactant(Section):
     clean_tension: Q("tension", gt=0) | None = None
     price_per_kg: Annotated[Value, _quantity(("dimensionless",), ge=0), BeforeValidator(_price_text)] | None = None
     currency: str = ""
-    diffusivity: Q("diffusivity", gt=0) | None = None
-    reference_temperature: Q("temperature", gt=0) | None = None
-    micellisation_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
-        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
-    adsorption_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
-        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
-    counterion_binding: Q("dimensionless", ge=0, le=1) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
-    charge: Literal["nonionic", "anionic", "cationic", "amphoteric"] | None = None  # of the surface-active ion
-    krafft_point: Q("temperature", gt=0) | None = None
-    cloud_point: Q("temperature", gt=0) | None = None
     # the phase the cmc and adsorption_constant concentrations were measured in (a fitted block
     # says so); when it is not the continuous phase the model converts them through the partition
     # coefficient (default: the continuous phase, nothing converted)
@@ -618,7 +625,7 @@ def price_currency(v: Value) -> str:
 Price = Annotated[Value, BeforeValidator(_price)]
 
 
-class BlendComponent(Section):
+class BlendComponent(_Conditions):
     """One ``[[blend.component]]``: a surfactant charged as its own product, in a fixed share."""
 
     name: str = Field(min_length=1, max_length=80)
@@ -633,16 +640,6 @@ class BlendComponent(Section):
     gibbs_prefactor: Q("dimensionless", ge=1, le=3) = Field(default_factory=lambda: Value(1.0, 1.0, "dimensionless"))
     partition_coefficient: Q("dimensionless", ge=0) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
     price: Price | None = None
-    diffusivity: Q("diffusivity", gt=0) | None = None  # of its monomer, for the adsorption-speed check
-    reference_temperature: Q("temperature", gt=0) | None = None
-    micellisation_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
-        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
-    adsorption_enthalpy: Q("molar_energy", ge=-2e5, le=2e5) = Field(
-        default_factory=lambda: Value(0.0, 0.0, "molar_energy"))
-    counterion_binding: Q("dimensionless", ge=0, le=1) = Field(default_factory=lambda: Value(0.0, 0.0, "dimensionless"))
-    charge: Literal["nonionic", "anionic", "cationic", "amphoteric"] | None = None  # of the surface-active ion
-    krafft_point: Q("temperature", gt=0) | None = None
-    cloud_point: Q("temperature", gt=0) | None = None
 
     @model_validator(mode="after")
     def _excess(self):

@@ -234,7 +234,7 @@ def test_block_uses_only_case_keys_and_round_trips():
     f = fit_tension(synthetic(6), model="langmuir")
     block = surfactant_block(f, plot="x.svg")
     assert set(block["surfactant"]) == {"isotherm", "max_surface_excess", "adsorption_constant",
-                                        "interaction", "gibbs_prefactor", "cmc", "clean_tension"}
+                                        "interaction", "gibbs_prefactor", "cmc", "clean_tension", "measured_in"}
     s = block["surfactant"]
     assert parse(s["cmc"], "cmc", "concentration") == pytest.approx(f.best.params["cmc"], rel=1e-5)
     assert parse(s["max_surface_excess"], "g", "surface_excess") == pytest.approx(

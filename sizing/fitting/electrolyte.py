@@ -34,9 +34,9 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.special import stdtrit  # Student t quantile, stdtrit(dof, q) = scipy.stats.t.ppf(q, dof)
 
-from .. import plausible
 from ..constants import GAS_CONSTANT
 from ..errors import InputError
+from .tension import series_start
 
 CONFIDENCE = 0.95
 MIN_CONCENTRATIONS = 3  # distinct concentrations for a line with an interval (common practice)
@@ -185,17 +185,7 @@ def fit_electrolyte(data, *, temperature=None, gibbs_prefactor=2.0, clean_tensio
     """
     c = np.asarray(data.concentration, dtype=float)
     g = np.asarray(data.tension, dtype=float)
-    notes = [x for x in data.notes if not x.startswith("warning:")]
-    warnings = [x[len("warning: "):] for x in data.notes if x.startswith("warning:")]
-    if temperature is None:
-        if data.temperature is None:
-            temperature = 298.15
-            warnings.append("no temperature given (option or column); assumed 25 degC")
-        else:
-            temperature = data.temperature
-    w = plausible.check("--temperature", float(temperature), "temperature")
-    if w:
-        warnings.append(w)
+    notes, warnings, temperature = series_start(data, temperature)
     n = float(gibbs_prefactor)
     if not (1.0 <= n <= 3.0):
         raise InputError(f"--gibbs-prefactor: expected 2 for a 1:1 salt (1 to 3 accepted), got {gibbs_prefactor!r}")

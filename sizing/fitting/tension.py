@@ -985,6 +985,24 @@ def select_model(fits: dict) -> tuple[str, str]:
     return pick, why
 
 
+def series_start(data, temperature=None) -> tuple[list, list, float]:
+    """The notes and warnings a series' reading left, and the fit temperature [K]: the option,
+    else the file's temperature column, else 25 degC with a warning; checked against the
+    plausible range cases use too."""
+    notes = [x for x in data.notes if not x.startswith("warning:")]
+    warnings = [x[len("warning: "):] for x in data.notes if x.startswith("warning:")]
+    if temperature is None:
+        if data.temperature is None:
+            temperature = 298.15
+            warnings.append("no temperature given (option or column); assumed 25 degC")
+        else:
+            temperature = data.temperature
+    w = plausible.check("--temperature", float(temperature), "temperature")
+    if w:
+        warnings.append(w)
+    return notes, warnings, float(temperature)
+
+
 def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clean_tension=None,
                 bootstrap=0, seed=0) -> TensionFit:
     """Fit the CMC and an isotherm to a tension series.
@@ -1061,17 +1079,7 @@ def fit_tension(data, *, temperature=None, gibbs_prefactor=1.0, model=None, clea
     """
     if not isinstance(data, TensionData):
         data = read_tension_csv(data)
-    notes = [x for x in data.notes if not x.startswith("warning:")]
-    warnings = [x[len("warning: "):] for x in data.notes if x.startswith("warning:")]
-    if temperature is None:
-        if data.temperature is None:
-            temperature = 298.15
-            warnings.append("no temperature given (option or column); assumed 25 degC")
-        else:
-            temperature = data.temperature
-    w = plausible.check("--temperature", float(temperature), "temperature")  # the ranges cases use too
-    if w:
-        warnings.append(w)
+    notes, warnings, temperature = series_start(data, temperature)
     if clean_tension is not None:
         w = plausible.check("--clean-tension", float(clean_tension), "tension")
         if w:
