@@ -151,3 +151,23 @@ def test_trial_uploads_are_checked_before_use(tmp_path):
     bad.write_text("batch,charge [kg],stable\nA,1.5,maybe\n", encoding="utf-8")
     with pytest.raises(InputError, match=r"row 2, column stable: expected yes or no"):
         views.trials_rows(bad)
+
+
+def test_partial_rows_on_a_blend_case_and_the_stability_note():
+    blend = DEMOS / "cream_blend_pair.toml"
+    at = AppTest.from_file(str(PAGE), default_timeout=120)
+    at.session_state["case_dict"] = tomllib.loads(blend.read_text(encoding="utf-8"))
+    at.session_state["case_base_dir"] = str(blend.parent)
+    # rows that give only some columns (the others are missing measurements, not zeros)
+    at.session_state["trials_table"] = [{"batch": "A", "charge [kg]": 2.6, "d32 [um]": 4.4, "stable": "yes"},
+                                        {"batch": "B", "charge [kg]": 2.0, "d32 [um]": 4.1, "stable": "no"}]
+    run(at)
+    at.button(key="btn_calibrate").click()
+    run(at)
+    csv = (Path(at.session_state["trials_run"]["file"])).read_text(encoding="utf-8").splitlines()
+    assert csv[1] == "A,2.6,4.4,,,yes,"
+    path = Path(at.session_state["trials_run"]["file"])
+    j = views.calibration_view(parse_case(tomllib.loads(blend.read_text(encoding="utf-8")), DEMOS), str(path))["result"]
+    assert metric(at, "Next charge") == f"{j['next']['kg_product_per_batch']:.4g} kg"
+    assert any("cannot separate" in i.value for i in at.info)
+    assert path.name == "trials_entered.csv"

@@ -103,8 +103,14 @@ columns = {
 }
 rows = st.session_state.get(TABLE) or EMPTY
 frame = pd.DataFrame(rows, columns=HEADS)
-frame["stable"] = [None if v is None or v is pd.NA else ("yes" if v is True else "no" if v is False else v)
-                   for v in frame["stable"]]
+TEXT = ("batch", "stable", "notes")
+for col in HEADS:  # each column one type, whatever the rows held (a missing key is NaN otherwise)
+    if col in TEXT:
+        frame[col] = pd.Series([None if v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v)) else
+                                ("yes" if v is True else "no" if v is False else str(v)) for v in frame[col]],
+                               dtype=object)
+    else:
+        frame[col] = pd.to_numeric(frame[col], errors="coerce").astype(float)
 edited = st.data_editor(frame, num_rows="dynamic", column_config=columns, key="trials_editor", hide_index=True,
                         width="stretch", disabled=use != "table")
 st.caption("Units as in the headers; empty cells are missing measurements, not zeros; rows are counted as in the "
