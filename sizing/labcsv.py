@@ -18,6 +18,8 @@ characters and a header cell of at most 40, control characters replaced by ``?``
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import io
 import re
 from dataclasses import dataclass
@@ -142,6 +144,21 @@ def _fix_hint(sample: str) -> str:
             "or save the CSV with ';' as the separator")
 
 
+# a molar mass a caller sets for the files it reads (``sizing fit ... --molar-mass``), so that
+# the fitting functions need not pass it through; see :func:`molar_mass_for_mass_columns`
+_MOLAR_MASS: contextvars.ContextVar[float | None] = contextvars.ContextVar("labcsv_molar_mass", default=None)
+
+
+@contextlib.contextmanager
+def molar_mass_for_mass_columns(molar_mass: float | None):
+    """Read concentration columns given by mass (``[g/L]``) with this molar mass [kg/mol] inside."""
+    tok = _MOLAR_MASS.set(molar_mass)
+    try:
+        yield
+    finally:
+        _MOLAR_MASS.reset(tok)
+
+
 _MOLAR_MASS_LINE = re.compile(r"^\s*#\s*molar[ _]mass\s*[=:]\s*(.+?)\s*$", re.IGNORECASE)
 
 
@@ -165,8 +182,8 @@ def _concentration_factor(unit: str, field: str, molar_mass: float | None, p) ->
             raise molar_error from None
     if molar_mass is None:
         raise InputError(f"{field}: {token(unit)} is a mass concentration; reading it in mol/m**3 needs the "
-                         "molar mass of the surfactant: add a line '# molar_mass = 288.4 g/mol' to the file "
-                         "(or give the column in mM)")
+                         "molar mass of the surfactant: add a line '# molar_mass = 288.4 g/mol' to the file, "
+                         "or give --molar-mass '288.4 g/mol' to 'sizing fit' (or the column in mM)")
     return per_volume / molar_mass
 
 
@@ -190,7 +207,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
     molar_mass : float, optional
         [kg/mol] to read a concentration column given by mass (``c [g/L]``, ``c [mg/L]``) as
         mol/m**3 (c = rho_s / M); without it, a ``# molar_mass = 288.4 g/mol`` line of the file
-        gives it (the caller's value wins), else such a column is refused with that hint.
+        gives it (the caller's value wins, then one set by :func:`molar_mass_for_mass_columns`),
+        else such a column is refused with that hint.
 
     Returns
     -------
@@ -242,6 +260,8 @@ def read_lab_csv(path, dimensions: dict[str, str], *, required: tuple[str, ...] 
             text = "\n".join(lines[:first] + lines[first + 1:]) + "\n"
     if sep is None:
         sep = detect_separator(_header_line(text))
+    if molar_mass is None:
+        molar_mass = _MOLAR_MASS.get()
     if molar_mass is None:
         molar_mass = _file_molar_mass(text, p)
     width = max((line.count(sep) for line in text.splitlines()), default=0) + 1

@@ -444,3 +444,26 @@ def test_report_of_a_protein_foam_fits_the_system(tmp_path, capsys):
     cells = [c.strip() for c in tank.splitlines() if c.strip()]
     assert "oil" in cells and "micelles" in cells and "CMC" in cells
     assert "homogeniser" not in cells and "free surfactant monomer at the charge" in cells
+
+
+def test_fit_tension_reads_g_per_l_with_molar_mass_option(tmp_path, capsys):
+    # the demo series in g/L of an invented M = 450 g/mol (c [g/L] = c [mM] x 0.450 kg/mol) fits to
+    # the same CMC and constants as the mM file (the arithmetic of c = rho_s / M; 1e-9 relative,
+    # the optimiser's starting points see the same numbers)
+    src = DEMOS / "lab" / "nonionic_tension.csv"
+    rows = [r for r in src.read_text(encoding="utf-8").splitlines() if r.strip() and not r.startswith("#")]
+    out = ["concentration [g/L]," + rows[0].split(",", 1)[1]]
+    out += [f"{float(r.split(',', 1)[0]) * 0.450!r},{r.split(',', 1)[1]}" for r in rows[1:]]
+    gl = tmp_path / "gl.csv"
+    gl.write_text("\n".join(out) + "\n", encoding="utf-8")
+    assert main(["fit", "tension", str(src), "--json"]) == 0
+    ref = json.loads(capsys.readouterr().out)
+    assert main(["fit", "tension", str(gl), "--molar-mass", "450 g/mol", "--json"]) == 0
+    got = json.loads(capsys.readouterr().out)
+    for key in ("cmc_mol_m3", "max_surface_excess_mol_m2", "adsorption_constant_m3_mol"):
+        a, b = ref.get(key, ref.get("parameters", {}).get(key)), got.get(key, got.get("parameters", {}).get(key))
+        if isinstance(a, dict):
+            a, b = a.get("value"), b.get("value")
+        assert a is not None and b == pytest.approx(a, rel=1e-9), key
+    assert main(["fit", "tension", str(gl)]) == 2
+    assert "--molar-mass '288.4 g/mol'" in capsys.readouterr().err

@@ -11,6 +11,7 @@ from ..errors import InputError
 from ..fitting.block import fit_depletion, fit_partition, fit_tension, read_tension_csv, write_fitted_block
 from ..fitting.electrolyte import fit_electrolyte, rises_with_concentration
 from ..fitting.micelles import fit_interaction
+from ..labcsv import molar_mass_for_mass_columns
 from ..outputs.fit_json import (
     depletion_fit_json,
     electrolyte_fit_json,
@@ -85,6 +86,22 @@ def register(subparsers) -> None:
     m.add_argument("data", metavar="DATA.csv")
     m.add_argument("--json", action="store_true", help="print JSON")
     m.set_defaults(func=_interaction)
+    for parser in (t, d, q, m):
+        _molar_mass_option(parser)
+
+
+def _molar_mass_option(parser) -> None:
+    """``--molar-mass``: read concentration columns given by mass (``[g/L]``) as mol/m**3."""
+    parser.add_argument("--molar-mass", metavar="M", help="molar mass of the surfactant, e.g. '288.4 g/mol', "
+                        "to read concentration columns in g/L or mg/L (or a '# molar_mass = ...' line of the file)")
+    run = parser.get_default("func")
+
+    def with_molar_mass(args):
+        m = parse(args.molar_mass, "--molar-mass", "molar_mass") if args.molar_mass else None
+        with molar_mass_for_mass_columns(m):
+            return run(args)
+
+    parser.set_defaults(func=with_molar_mass)
 
 
 def _warn(lines) -> None:
