@@ -12,13 +12,14 @@ from __future__ import annotations
 import csv
 import importlib
 import io
+import os
 import sys
 
 import numpy as np
 
 from ..case import load_case
 from ..errors import InputError
-from ..planning.sweep import sweep_columns
+from ..planning.sweep import parse_path, scaleup_note, sweep_columns
 from .common import write_atomic
 
 SCREEN_ROWS = 40  # at most this many rows are printed as a table; more give a summary
@@ -79,8 +80,27 @@ def _text_scalar(pa, text: str):
     return pa.Array.from_buffers(pa.large_string(), 1, [None, offsets, pa.py_buffer(raw)])[0]
 
 
+def _words_column(v: np.ndarray, pa):
+    """Return a column of a few distinct texts (the ``reason``) as pyarrow text, each text encoded once."""
+    words = list(dict.fromkeys(v.tolist()))  # the distinct texts, in order of appearance
+    codes = np.zeros(v.size, dtype=np.int64)
+    for k, w in enumerate(words[1:], start=1):
+        codes[v == w] = k
+    raw = [str(w).encode("utf-8") for w in words]
+    if any(b"," in r or b'"' in r or b"\n" in r for r in raw):  # the CSV cells are unquoted
+        raise ValueError("sweep: a text column holds a comma, quote or newline")
+    lengths = np.array([len(r) for r in raw], dtype=np.int64)[codes]
+    offsets = np.zeros(v.size + 1, dtype=np.int64)
+    np.cumsum(lengths, out=offsets[1:])
+    data = b"".join(raw[k] for k in codes.tolist()) if v.size else b""
+    return pa.Array.from_buffers(pa.large_string(), v.size, [None, pa.py_buffer(offsets), pa.py_buffer(data)])
+
+
 def _text_column(v: np.ndarray, pa, pc):
-    """Return one column as pyarrow text: ``True``/``False``, or numbers with nan as an empty cell."""
+    """Return one column as pyarrow text: ``True``/``False``, a text column as it is, or numbers
+    with nan as an empty cell."""
+    if v.dtype == object:
+        return _words_column(v, pa)
     if v.dtype == bool:
         flags = pa.Array.from_buffers(pa.bool_(), v.size, [None, pa.py_buffer(np.packbits(v, bitorder="little"))])
         return pc.if_else(flags, _text_scalar(pa, "True"), _text_scalar(pa, "False"))
@@ -138,6 +158,18 @@ def csv_bytes(table, chunk_rows: int = 1 << 16) -> bytes:
     return b"".join(bytes(c) for c in csv_chunks(table, chunk_rows))
 
 
+def terminal_width() -> int | None:
+    """The terminal's width in characters: ``COLUMNS`` if set, else stdout's terminal; None when
+    stdout is not a terminal (a file or a pipe takes the whole table)."""
+    env = os.environ.get("COLUMNS", "")
+    if env.isdigit() and int(env) > 0:
+        return int(env)
+    try:
+        return os.get_terminal_size(sys.stdout.fileno()).columns if sys.stdout.isatty() else None
+    except (OSError, ValueError, AttributeError):
+        return None
+
+
 def _num(x) -> str:
     return "-" if not np.isfinite(x) else f"{x:.5g}"
 
@@ -157,18 +189,19 @@ def _grid_shape(cols: dict, n_inputs: int) -> tuple[int, ...]:
     return (n // inner, inner)
 
 
-def summary(table, n_inputs: int, csv_path: str | None) -> str:
-    """Return the terminal text of a table too long to print: size, column ranges, where the target is met."""
+def summary(table, n_inputs: int, csv_path: str | None, why: str = "too long to print") -> str:
+    """Return the terminal text of a table too long (or too wide) to print: size, column ranges,
+    where the target is met and why not elsewhere."""
     cols = _columns(table)
     n = len(cols["feasible"])
     inputs = list(cols)[:n_inputs]
     grid = " x ".join(f"{k}" for k in _grid_shape(cols, n_inputs))
-    lines = [f"sweep: {n:,} grid points ({grid} over {', '.join(inputs)}); the table is too long to print"]
+    lines = [f"sweep: {n:,} grid points ({grid} over {', '.join(inputs)})", f"the table is {why}"]
     lines.append(f"the full table is in {csv_path}" if csv_path else "give --csv FILE to keep the full table")
     width = max(len(c) for c in cols)
     lines += ["", f"  {'column':<{width}}  {'least':>12}  {'largest':>12}  {'no value':>9}"]
     for c in cols:
-        if c == "feasible":
+        if c == "feasible" or cols[c].dtype == object:  # flags and texts have no range
             continue
         v = cols[c].astype(float)
         fin = v[np.isfinite(v)]
@@ -181,6 +214,11 @@ def summary(table, n_inputs: int, csv_path: str | None) -> str:
         for c in inputs:
             v = cols[c].astype(float)[met]
             lines.append(f"  where it is met: {c} from {_num(v.min())} to {_num(v.max())}")
+    if k < n and "reason" in cols:
+        reasons = cols["reason"][~met]
+        for r in dict.fromkeys(reasons.tolist()):
+            m = int(np.sum(reasons == r))
+            lines.append(f"  not met at {m:,} point{'' if m == 1 else 's'}: {r}")
     return "\n".join(lines)
 
 
@@ -211,10 +249,22 @@ def run(args) -> int:
     if len(cols["feasible"]) <= SCREEN_ROWS:
         import pandas as pd  # deferred: pandas is heavy and only the printed table needs it
 
-        print(pd.DataFrame(cols).to_string(index=False, float_format=lambda x: f"{x:.5g}"))
+        text = pd.DataFrame(cols).to_string(index=False, float_format=lambda x: f"{x:.5g}")
+        wide = max(len(line) for line in text.splitlines())
+        room = terminal_width()
+        if room is not None and wide > room:  # a table wider than the terminal would wrap into a mess
+            print(summary(cols, n_inputs, args.csv, why=f"{wide} characters wide, wider than this terminal ({room})"))
+        else:
+            print(text)
     else:
         print(summary(cols, n_inputs, args.csv))
-    for col in _flat_inputs(cols, n_inputs):
+    note = scaleup_note(case, [parse_path(v) for v in args.vary])
+    flat = _flat_inputs(cols, n_inputs)
+    if note:
+        print(note, file=sys.stderr)
+    for col in flat:
+        if note and col.startswith("d32 ["):
+            continue  # said by the scale-up note
         print(f"note: the dose does not change with {col} in this case"
               + (" (the temperature enters only the tension, through R T in the equation of state; the "
                  "isotherm constants are taken as given)" if "temperature" in col else ""), file=sys.stderr)

@@ -76,6 +76,16 @@ def _dimension(case, path: str) -> str:
                      f"{', '.join(sorted(ALIASES))} or a path such as {', '.join(known[:6])}, ...")
 
 
+def parse_path(spec: str) -> str:
+    """Return the case path a ``NAME=LOW..HIGH:N`` text varies (its alias resolved), or '' if malformed.
+
+    >>> parse_path("d32=1um..5um:9"), parse_path("surfactant.cmc=1..2 mM:3")
+    ('drops.d32', 'surfactant.cmc')
+    """
+    m = _SPEC.match(spec)
+    return ALIASES.get(m.group(1), m.group(1)) if m else ""
+
+
 def parse_vary(spec: str, case) -> Variation:
     """Parse ``NAME=LOW..HIGH:N[:log]`` into a :class:`Variation` (units read from LOW/HIGH text).
 
@@ -207,4 +217,52 @@ def sweep_columns(case, specs: list[str]) -> dict[str, np.ndarray]:
     })
     if "drops.d32" not in flat:
         data["d32 [um]"] = col(sol.d32) * 1e6
+    elif getattr(case, "scaleup", None) is not None:  # the lab d32 swept; the dose uses the plant's
+        data["plant d32 [um]"] = col(sol.d32) * 1e6
+    data["reason"] = infeasible_reasons(np.broadcast_to(sol.feasible, (size,)), inputs.target_kind,
+                                        np.broadcast_to(np.asarray(inputs.cmc, dtype=float), (size,)))
     return data
+
+
+#: why a sweep row's target is not reachable, by target kind (no commas: the CSV cells are unquoted)
+REASONS = {
+    "coverage": "coverage target above the largest coverage below the CMC (see max coverage)",
+    "tension": "tension target below the tension at the CMC",
+    "free_concentration": "free monomer target above the CMC",
+}
+NO_CMC_REASON = "target reachable only at full coverage (no CMC: the equation of state never gets there)"
+
+
+def infeasible_reasons(feasible: np.ndarray, target_kind: str, cmc: np.ndarray) -> np.ndarray:
+    """Return the ``reason`` column: empty where the target is met, else why it is not.
+
+    An object array whose cells share a handful of strings (8 bytes a row, whatever the grid).
+
+    >>> list(infeasible_reasons(np.array([True, False, False]), "coverage", np.array([1.0, 1.0, np.inf])))
+    ['', 'coverage target above the largest coverage below the CMC (see max coverage)', 'target reachable only at full coverage (no CMC: the equation of state never gets there)']
+    """
+    out = np.full(feasible.shape, "", dtype=object)
+    bad = ~np.asarray(feasible, dtype=bool)
+    if bad.any():
+        finite = np.isfinite(cmc)
+        out[bad & finite] = REASONS.get(target_kind, "target not reachable below the CMC")
+        out[bad & ~finite] = NO_CMC_REASON
+    return out
+
+
+def scaleup_note(case, paths: list[str]) -> str | None:
+    """Return the note for a sweep over the lab d32 of a case whose ``[scaleup]`` sets the plant d32.
+
+    A power law gives the plant d32 from the plant's process variable alone, so the dose is flat
+    along drops.d32; a stirred-tank rule scales the lab d32, so the dose follows the plant d32.
+    """
+    s = getattr(case, "scaleup", None)
+    if s is None or "drops.d32" not in paths:
+        return None
+    if s.method == "power_law":
+        variable = (s.variable or "process variable").replace("_", " ")
+        return (f"note: the dose does not change with d32 [um] in this case: its [scaleup] sets the plant "
+                f"d32 the dose uses from the plant's {variable} (a power law through the lab points), "
+                "not from drops.d32; vary scaleup.plant to see the dose move with the drop size")
+    return ("note: d32 [um] is the lab d32 here; this case's [scaleup] (stirred tank, rule "
+            f"{s.rule}) turns it into the plant d32 the dose uses (column 'plant d32 [um]')")
