@@ -34,7 +34,7 @@ def register(sub) -> None:
     p.set_defaults(func=guarded(run))
 
 
-def describe(j: dict) -> str:
+def describe(j: dict, scaleup: bool = False) -> str:
     def u(x, unit):
         return "n/a" if x is None else f"{sig(x, 4)} {unit}".strip()
 
@@ -45,12 +45,12 @@ def describe(j: dict) -> str:
              f"(P{nx['percentile']:g} dose {u(nx['dose_kg_product'], 'kg')} before margin and rounding)",
              f"  before the trials      {u(j['prior_charge_kg'], 'kg')}; probability the charge meets the target "
              f"{u(j['probability_target_met_before'], '')} before, {u(nx['probability_target_met'], '')} after",
-             "", "  learned input                      prior p10 / p50 / p90  ->  posterior p10 / p50 / p90"]
+             "", f"  {'learned input':<38} prior p10 / p50 / p90  ->  posterior p10 / p50 / p90"]
     units = j.get("units") or {}
     for p in j["posterior"]:
         a, b = j["prior"][p], j["posterior"][p]
         un = units.get(p) or ""
-        lines.append(f"  {learned_name(p)[:38]:<38} " + " / ".join(shown(a[k], un) for k in ("p10", "p50", "p90")) + "  ->  "
+        lines.append(f"  {learned_name(p, scaleup)[:38]:<38} " + " / ".join(shown(a[k], un) for k in ("p10", "p50", "p90")) + "  ->  "
                      + " / ".join(shown(b[k], un) for k in ("p10", "p50", "p90")))
     st = j.get("stability")
     if st and st.get("coverage_for_90_percent") is not None:
@@ -77,7 +77,7 @@ def run(args) -> int:
     if args.json:
         print_json(j)
     else:
-        print(describe(j))
+        print(describe(j, getattr(case, "scaleup", None) is not None))
         if args.out:
             print(f"\nwrote {args.out}/result.json, report.html, updated_case.toml")
     return 0

@@ -8,7 +8,7 @@ import math
 
 from ..case import case_to_dict, dumps_case
 from ..texts import CAUTIONS, field_label
-from .htmlbits import CSS, chart, esc, q, section, table
+from .htmlbits import CSS, chart, esc, q, section, table, unit_text
 from .jsonify import json_number as _num
 from .jsonify import to_jsonable
 
@@ -29,14 +29,14 @@ def learned_unit(case, path: str) -> str:
     return _SI.get(q_.dimension, "") if q_ is not None else ""
 
 
-def shown(value, si_unit: str, digits: int = 3) -> str:
-    """A learned value in the unit people read (µm, mM, mN/m), as plain text."""
+def shown(value, si_unit: str, digits: int = 3, html: bool = False) -> str:
+    """A learned value in the unit people read (µm, mM, mN/m): plain text, or as a report writes it."""
     if value is None or not math.isfinite(value):
         return "n/a"
     unit, f = _SHOWN.get(si_unit, (si_unit, 1.0))
     if si_unit == "K":
         unit, value, f = "degC", value - 273.15, 1.0
-    return f"{value * f:.{digits}g} {unit}".strip()
+    return f"{value * f:.{digits}g} {unit_text(unit) if html else unit}".strip()
 
 
 def calibration_json(cal, case=None) -> dict:
@@ -98,8 +98,10 @@ def updated_case_toml(case, cal, trials_name) -> str:
     return dumps_case(data)
 
 
-def learned_name(path: str) -> str:
+def learned_name(path: str, scaleup: bool = False) -> str:
     """A learned input's name as people say it (the JSON keeps the case path)."""
+    if path == "drops.d32" and scaleup:
+        return "lab d32 (the scale-up's starting size)"
     if path == "scaleup.plant_d32_factor":
         return "plant d32 factor (measured/predicted)"
     if path == "scaleup.plant_d32":
@@ -107,7 +109,7 @@ def learned_name(path: str) -> str:
     return field_label(path)
 
 
-def _bands_chart(j) -> str:
+def _bands_chart(j, scaleup=False) -> str:
     """Prior and posterior p10..p90 of each learned input, as ratios to its prior median (log axis)."""
     paths = list(j["posterior"])
 
@@ -123,7 +125,7 @@ def _bands_chart(j) -> str:
                         solid_capstyle="butt", label=label if i == 0 else None)
                 ax.plot([band["p50"] / ref], [i + off], "|", color="black", ms=12)
         ax.set_yticks(range(len(paths)))
-        ax.set_yticklabels([learned_name(p) for p in paths])
+        ax.set_yticklabels([learned_name(p, scaleup) for p in paths])
         ax.set_xscale("log")
         ax.set_xlabel("value / prior median [-]")
         ax.invert_yaxis()
@@ -138,18 +140,20 @@ def _measured_chart(j) -> str:
 
     def draw(fig):
         ax = fig.add_subplot(111)
+        names = [r["batch"] for r in rows]
         for key, pred, label, marker in (("d32_m", "predicted_d32_m", "d32", "o"),
                                          ("serum_concentration_mol_m3", "predicted_free_concentration_mol_m3",
                                           "serum concentration", "s")):
-            pts = [(r[pred], r[key]) for r in rows if r[key] is not None and r[pred]]
+            pts = [(i, 100 * (r[key] / r[pred] - 1)) for i, r in enumerate(rows) if r[key] is not None and r[pred]]
             if pts:
-                ax.plot([m / p for p, m in pts], [r["batch"] for r in rows if r[key] is not None and r[pred]],
-                        marker, ls="none", label=label)
-        ax.axvline(1.0, color="grey", lw=1)
-        ax.set_xscale("log")
-        ax.set_xlabel("measured / predicted (posterior) [-]")
+                ax.plot([v for _, v in pts], [i for i, _ in pts], marker, ls="none", label=label)
+        ax.axvline(0.0, color="grey", lw=1)
+        ax.set_yticks(range(len(names)))
+        ax.set_yticklabels(names)
+        ax.invert_yaxis()
+        ax.set_xlabel("measured against predicted (posterior) [%]")
         ax.legend()
-    return chart(draw, "Each trial's measurements against the posterior prediction (1 = agreement)")
+    return chart(draw, "Each trial's measurements against the posterior prediction (0 % = agreement)")
 
 
 def calibration_html(case, cal, j) -> str:
@@ -158,20 +162,29 @@ def calibration_html(case, cal, j) -> str:
     units = j.get("units") or {}
     warn = "".join(f"<p class='warn'>{esc(w)}</p>" for w in j.get("warnings", []))
     warn += "".join(f"<p class='warn'>{esc(n)}</p>" for n in j["notes"] if n.startswith("WARNING"))
-    moved = ("lower" if nx["kg_product_per_batch"] < (j["prior_charge_kg"] or 0) else
-             "higher" if nx["kg_product_per_batch"] > (j["prior_charge_kg"] or 0) else "unchanged")
+    before, after = j["prior_charge_kg"], nx["kg_product_per_batch"]
+    raised = any(n.startswith("WARNING") and "raised" in n for n in j["notes"])
+    if before is None or after is None:
+        moved = "no charge before the trials to compare with"
+    elif abs(after - before) <= 1e-9 * max(abs(before), 1e-12):
+        moved = "unchanged"
+    else:
+        moved = "lower" if after < before else "higher"
+    moved += ("; the lowest charge that passed above every failure (see the warning)" if raised else
+              "; the trials narrowed the inputs below")
     head = (f'<p class="big">Next charge {esc(q(nx["kg_product_per_batch"], "kg"))} of product per batch</p>'
             f"<p>P{nx['percentile']:g} dose {esc(q(nx['dose_kg_product'], 'kg'))} before margin and rounding; "
-            f"before the trials {esc(q(j['prior_charge_kg'], 'kg'))} ({moved}: the trials narrowed the inputs "
-            "below). Probability that the charge meets the target: "
+            f"before the trials {esc(q(j['prior_charge_kg'], 'kg'))} ({esc(moved)}). "
+            "Probability that the charge meets the target: "
             f"{esc(q(j['probability_target_met_before'], ''))} before, {esc(q(nx['probability_target_met'], ''))} "
             f"after. Effective sample size {j['effective_sample_size']:.0f} of {j['samples']}.</p>" + warn)
 
     def band(b, p):
-        return " / ".join(shown(b[k], units.get(p) or "", 3) for k in ("p10", "p50", "p90"))
-    rows = [(learned_name(p), band(j["prior"][p], p), band(b, p)) for p, b in j["posterior"].items()]
+        return " / ".join(shown(b[k], units.get(p) or "", 3, html=True) for k in ("p10", "p50", "p90"))
+    scaleup = getattr(case, "scaleup", None) is not None
+    rows = [(learned_name(p, scaleup), band(j["prior"][p], p), band(b, p)) for p, b in j["posterior"].items()]
     body = head + table(rows, ("learned input", "prior p10 / p50 / p90", "posterior p10 / p50 / p90"),
-                        numeric_cols=()) + _bands_chart(j)
+                        numeric_cols=()) + _bands_chart(j, scaleup)
     trows = [(r["batch"], q(r["charge_kg"], "kg"), q(r["d32_m"], "um", scale=1e6),
               q(r["predicted_d32_m"], "um", scale=1e6), q(r["serum_concentration_mol_m3"], "mM"),
               q(r["predicted_free_concentration_mol_m3"], "mM"), q(r["predicted_coverage"], ""),
