@@ -221,3 +221,10 @@ def test_the_next_charge_never_goes_below_a_failed_trial_when_a_higher_one_passe
     assert j["next"]["kg_product_per_batch"] >= 1.7  # P-01 failed at 1.4 kg, P-02 passed at 1.7 kg
     assert j["posterior"]["scaleup.plant_d32_factor"]["p50"] > 0
     assert j["units"]["drops.d32"] == "m" and j["units"]["scaleup.plant_d32_factor"] == ""
+
+
+def test_calibrating_an_updated_case_warns_of_double_counting(tmp_path):
+    case = loads_case(CASE.format(cv=0.2, n=3000, seed=8).replace('system = "emulsion"',
+                      'system = "emulsion"\nnotes = "calibrated on 3 trial batch(es) from t.csv"'))
+    cal = calibrate(case, _trials(tmp_path, ["A,0.8,4.1,"]))
+    assert any("count twice" in w for w in cal.warnings)

@@ -290,6 +290,10 @@ def calibrate(case, trials: TrialRows, samples: int | None = None, seed: int | N
     logw = np.zeros(n)
     used = []
     warnings = []
+    if "calibrated on" in (case.case.notes or ""):
+        warnings.append("this case was itself written by a calibration (its notes say 'calibrated on ...'): trials it "
+                        "already learned from would count twice; calibrate the original case with all the rows, "
+                        "unless these trials are new")
     dose_prior = np.asarray(mc.dose_kg_product, dtype=float)
     fin_prior = dose_prior[np.isfinite(dose_prior)]
     own_size = np.ones(trials.charge_kg.size, dtype=bool)
