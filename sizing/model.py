@@ -555,9 +555,9 @@ def target_concentration(inputs: Inputs):
     kind, value = inputs.target_kind, np.asarray(inputs.target_value, dtype=float)
     k, model, beta = inputs.adsorption_constant, inputs.model, inputs.interaction
     if kind == "tension" and inputs.macromolecule:
-        raise InputError("target.tension: a protein or polymer's tension does not follow the small-molecule "
-                         "equation of state, so no dose can be read from a tension; expected target.coverage "
-                         "or target.surface_load (e.g. '2 mg/m**2')")
+        # a protein or polymer's tension does not follow the small-molecule equation of state: no
+        # dose can be read from a tension target, which is therefore unreachable (said in words)
+        return np.full(np.shape(value), np.inf), np.ones(np.shape(value))
     if kind == "coverage":
         theta = value
         return isotherm.c_of_theta(theta, k, model, beta), theta

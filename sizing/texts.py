@@ -65,7 +65,8 @@ def unreachable_reason(max_coverage: float) -> str:
 EOS_UNREACHABLE = ("the equation of state cannot lower the tension to the target at any coverage below 1 "
                    "(its surface pressure n R T Gamma_inf ln(1/(1 - theta)) is too small for this Gamma_inf); "
                    "for proteins and polymers the small-molecule equation of state understates the lowering "
-                   "of the tension: use a coverage target (or a measured plateau tension) instead")
+                   "of the tension: use a coverage or surface-load target (target.surface_load, mg/m**2) and give the "
+                   "measured plateau tension (surfactant.plateau_tension)")
 
 
 def unreachable_options(max_coverage: float) -> tuple[str, ...]:
