@@ -5,7 +5,7 @@ Sources of the check values (tolerances beside each check):
 - Clint, J. H., J. Chem. Soc. Faraday Trans. 1, 71 (1975) 1327: 1/C_12 = sum alpha_i / C_i.
 - Rubingh, D. N., Solution Chemistry of Surfactants vol. 3 (1979) 337, equations as in Holland and
   Rubingh, ACS Symp. Ser. 501 (1992) ch. 1.  The values below are computed from these published
-  equations (worked by hand in ../shared/REFERENCES.md) with C_1 = 8.2 mM (SDS) and C_2 = 0.11 mM
+  equations (worked by hand from them) with C_1 = 8.2 mM (SDS) and C_2 = 0.11 mM
   (C12E8), common literature CMCs [from memory].
 - Competitive Langmuir with equal Gamma_inf equals the ideal adsorbed solution (Myers and
   Prausnitz, AIChE J. 11 (1965) 121) [from memory]: Pi = n R T Gamma_inf ln(1 + sum K c).

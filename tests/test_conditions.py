@@ -3,7 +3,8 @@ cloud points.
 
 Sources (tolerances beside each check):
 - van 't Hoff form of the pseudo-phase CMC, d ln CMC / d(1/T) = dH_mic / ((1 + b) R); the check
-  values are computed from that equation (../shared/REFERENCES.md, [C]).
+  values are computed from that equation by hand (e.g. Rosen and Kunjappu, Surfactants and Interfacial
+  Phenomena, 4th ed. (2012), ch. 3, for the form [from memory]).
 - Corrin and Harkins, J. Am. Chem. Soc. 69 (1947) 683: log CMC = const - b log(CMC + c_salt).
   SDS in 0.1 M NaCl has a CMC of about 1.4-1.6 mM at 25 degC [from memory, e.g. the tables in
   Rosen and Kunjappu, Surfactants and Interfacial Phenomena, 4th ed. (2012)].

@@ -1,7 +1,7 @@
 """``sizing fit interaction``: the regular-solution beta of a mixed micelle from mixed CMCs.
 
 Checks against the Rubingh (1979) equations (mixed CMCs computed from them, as in
-../shared/REFERENCES.md: C_1 = 8.2 mM, C_2 = 0.11 mM, common literature values [from memory]),
+worked by hand from Rubingh's equations: C_1 = 8.2 mM, C_2 = 0.11 mM, common literature values [from memory]),
 beta = 0 giving Clint (1975), refusals, the CLI contract, and the coverage of the 95 % interval over
 many seeds (synthetic data with a known beta: a statistical property, the data are invented for it).
 """
@@ -36,7 +36,7 @@ def test_exact_mixed_cmcs_give_beta_back(beta):
 
 
 def test_rubingh_reference_values_are_the_model():
-    # REFERENCES.md [C]: alpha_1 = 0.5: beta = -4.1 gives 0.16274 mM; alpha_1 = 0.9: 0.47345 mM (5 digits)
+    # Rubingh (1979) worked by hand: alpha_1 = 0.5: beta = -4.1 gives 0.16274 mM; alpha_1 = 0.9: 0.47345 mM (5 digits)
     np.testing.assert_allclose(_cmcs(-4.1, np.array([0.5, 0.9])), [0.16274, 0.47345], rtol=3e-5)
 
 

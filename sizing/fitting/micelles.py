@@ -30,7 +30,7 @@ from ..errors import CalculationError, InputError
 from ..labcsv import read_lab_csv
 from ..physics.blend import mixed_cmc
 
-BETA_BOUNDS = (-40.0, 2.0)  # typical anionic + cationic pairs reach about -25 (REFERENCES, from memory)
+BETA_BOUNDS = (-40.0, 2.0)  # typical anionic + cationic pairs reach about -25 (Holland and Rubingh 1992, from memory)
 
 
 @dataclass(frozen=True)
