@@ -90,7 +90,12 @@ def render_summary(plan) -> str:
         ("cost per batch", q(r.cost_per_batch, r.currency, digits=5)),
         ("expected coverage at the charge", q(r.coverage_at_charge, "(-)")),
         (f"{words_for(c)['free']} at the charge", q(r.free_concentration_at_charge, "mM")),
-        ("tension at the charge", q(r.tension_at_charge, "mN/m", scale=1e3)),
+        *([("tension at the charge", q(r.tension_at_charge, "mN/m", scale=1e3))]
+          if not plan.solution.inputs.macromolecule else  # a protein: no model tension (issue 14 item 4)
+          [("surface load at the charge", q(r.coverage_at_charge * float(plan.solution.inputs.max_surface_excess)
+                                            * float(plan.solution.inputs.molar_mass) * 1e6, "mg/m**2")),
+           ("plateau tension (measured)", q(plan.solution.inputs.plateau_tension, "mN/m", scale=1e3)
+            if np.isfinite(plan.solution.inputs.plateau_tension) else "not given: measure it")]),
         *([("micelles at the charge", q(100 * r.micelle_share_at_charge, "% of the charge"))]
           if words_for(c)["has_cmc"] else []),
     ]
