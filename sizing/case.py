@@ -856,7 +856,14 @@ class Process(Section):
 
 # keys read once into another quantity, left out of Case.quantities (a sweep or a Monte Carlo
 # run varies the quantity the engine uses, batch.dispersed_fraction)
-_INPUT_ONLY = frozenset({"batch.dispersed_mass_fraction"})
+_INPUT_ONLY = frozenset({"batch.dispersed_mass_fraction", "recipe.current_charge"})
+
+
+class Recipe(Section):
+    """The charge the current recipe carries, to set beside the equilibrium demand."""
+
+    current_charge: Q("mass", gt=0)  # per batch, of product as delivered (or active, see basis)
+    basis: Literal["product", "active"] = "product"
 
 
 class Case(Section):
@@ -873,6 +880,7 @@ class Case(Section):
     uncertainty: Uncertainty | None = None
     scaleup: Scaleup | None = None
     process: Process | None = None
+    recipe: Recipe | None = None
 
     # not part of the file: where it was read from, and the fitted block's provenance
     _base_dir: Path | None = None

@@ -149,6 +149,16 @@ def run(args) -> int:
     print(clean(describe(plan)))
     if dose is not None:
         print("\n" + clean(describe_given(result["dose_given"], dose.echo(), words_for(case)["free"])))
+    if plan.recipe is not None:
+        r = plan.recipe
+        total = sum(r.split_mol.values()) or 1.0
+        where = ", ".join(f"{k} {100 * v / total:.3g} %" for k, v in r.split_mol.items() if v > 0)
+        print("\n" + clean(f"  current recipe charge  {sig(r.kg_product, 4)} kg product ({sig(r.times_recommended, 3)} x "
+                           f"the recommended charge): coverage {sig(r.coverage, 4)} (-); {where}; "
+                           + (f"reserve beyond the equilibrium demand {100 * r.reserve_share:.3g} % of it"
+                              if r.kg_product >= r.demand_kg_product else
+                              f"BELOW the equilibrium demand for the target ({sig(r.demand_kg_product, 4)} kg "
+                              "product): the interface is short of the target")))
     for w in plan_warnings(plan):
         print(clean(f"warning: {w}"))
     print()

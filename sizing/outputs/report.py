@@ -44,6 +44,7 @@ from .report_parts import (
     render_adsorption,
     render_blend,
     render_conditions,
+    render_recipe,
     render_scaleup,
     render_uncertainty,
 )
@@ -409,7 +410,7 @@ def render_cautions(plan) -> str:
 
 
 #: The report's sections, in order (each ``(plan) -> str``, '' to skip).
-SECTIONS = (render_summary, render_case, render_split, render_blend, render_coverage_chart, render_d32_chart,
+SECTIONS = (render_summary, render_case, render_split, render_recipe, render_blend, render_coverage_chart, render_d32_chart,
             render_trial, render_scaleup, render_achievable, render_uncertainty, render_adsorption,
             render_conditions,
             render_unreachable, render_assumptions, render_cautions)

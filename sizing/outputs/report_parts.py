@@ -286,3 +286,27 @@ def render_conditions(plan) -> str:
                                      "laws (none given: they stay as measured). Equilibrium estimate; confirm "
                                      "stability by a storage test.")
     return section("conditions", "Process and storage", body)
+
+
+def render_recipe(plan) -> str:
+    """The recipe's current charge beside the plan: where it goes, the coverage it gives, its reserve."""
+    r = plan.recipe
+    if r is None:
+        return ""
+    total = sum(r.split_mol.values()) or 1.0
+    places = words_for(plan.case)["places"]
+    rows = [("current charge", f"{q(r.kg_product, 'kg product')} ({q(r.kg_active, 'kg active')})"),
+            ("against the recommended charge", q(r.times_recommended, "x", digits=3)),
+            ("coverage it gives", q(r.coverage, "(-)")),
+            (f"{words_for(plan.case)['free']} it leaves", q(r.free_concentration, "mM"))]
+    rows += [(f"of it: {k}", q(100 * v / total, "%", digits=3)) for k, v in r.split_mol.items()
+             if (places is None or k in places or v > 0)]
+    if r.kg_product >= r.demand_kg_product:
+        rows.append(("reserve beyond the equilibrium demand", q(100 * r.reserve_share, "% of the charge", digits=3)))
+    else:
+        rows.append(("below the equilibrium demand", f"{q(r.demand_kg_product, 'kg product')} needed for the target"))
+    text = ("<p>The reserve is what the recipe carries beyond the equilibrium demand of interface and phases "
+            "for the target: it may be doing other work (storage stability, texture, process losses, "
+            "ingredients that bind surfactant). Lower a recipe charge only through trials, within the legal "
+            "limits for the product.</p>")
+    return section("recipe", "The current recipe charge", table(rows) + text)

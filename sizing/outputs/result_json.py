@@ -135,6 +135,14 @@ def plan_json(plan: Plan) -> dict:
             "free_concentration_mol_m3": [_num(x) for x in c.free_concentration],
             "cmc_mol_m3": [_num(x) for x in c.cmc], "batch_temperature_K": _num(c.batch_temperature),
             "storage_temperature_K": _num(c.storage_temperature), "storage_coverage": _num(c.storage_coverage)}
+    if plan.recipe is not None:
+        r = plan.recipe
+        out["recipe"] = {"current_charge_kg_product": _num(r.kg_product), "current_charge_kg_active": _num(r.kg_active),
+                         "current_charge_mol": _num(r.mol), "coverage": _num(r.coverage),
+                         "free_concentration_mol_m3": _num(r.free_concentration),
+                         "split_mol": {k: _num(v) for k, v in r.split_mol.items()},
+                         "times_recommended_charge": _num(r.times_recommended), "reserve_share": _num(r.reserve_share),
+                         "demand_kg_product": _num(r.demand_kg_product)}
     if plan.blend is not None:
         out["recommendation"]["components"] = [
             {"name": c.name, "kg_product": _num(c.kg_product), "kg_active": _num(c.kg_active), "mol": _num(c.mol),

@@ -125,3 +125,29 @@ def uncertainty_part(case, mc: MonteCarlo, charge_kg_product: float) -> Uncertai
 def adsorption_part(case, solution) -> AdsorptionCheck | None:
     """Return the adsorption-speed check at the target state, or None without its data."""
     return kinetics.adsorption_check(case, solution)
+
+
+@dataclass(frozen=True)
+class RecipePart:
+    """Where the current recipe's charge goes (``[recipe] current_charge``), beside the plan.
+
+    Attributes
+    ----------
+    kg_product, kg_active, mol : the current charge per batch
+    coverage, free_concentration : the equilibrium it gives [-, mol/m**3]
+    split_mol : {water, oil, interface, micelles} [mol]
+    times_recommended : current / recommended charge (product) [-]
+    reserve_share : the share of the current charge beyond the equilibrium demand for the target
+        (before margin), ``1 - demand / current`` (0 when the current charge is below the demand) [-]
+    demand_kg_product : that demand [kg product]
+    """
+
+    kg_product: float
+    kg_active: float
+    mol: float
+    coverage: float
+    free_concentration: float
+    split_mol: dict
+    times_recommended: float
+    reserve_share: float
+    demand_kg_product: float = float("nan")  # the equilibrium demand for the target, before margin

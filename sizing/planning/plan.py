@@ -216,6 +216,8 @@ class Plan:
     conditions : the charge's coverage against temperature, batch to storage
         (:class:`sizing.planning.blendplan.ConditionsPart`), None without a storage temperature or a
         temperature law
+    recipe : where the recipe's current charge goes (:class:`sizing.planning.parts.RecipePart`),
+        None without ``[recipe] current_charge``
     """
 
     case: object
@@ -238,6 +240,7 @@ class Plan:
     adsorption: AdsorptionCheck | None = None
     blend: BlendPart | None = None
     conditions: ConditionsPart | None = None
+    recipe: parts.RecipePart | None = None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -486,7 +489,26 @@ def build_plan(case, source=None, curve_points: int = 161, d32_points: int = 61)
         blend=blendplan.blend_part(case, inputs, fwd, curve) if inputs.blend is not None else None,
         conditions=(blendplan.conditions_part(case, inputs, rec.mol_per_batch, _f(target_theta))
                     if feasible else None),
+        recipe=recipe_part(case, inputs, rec, _f(target_sol.kg_product) if feasible else math.nan),
     )
+
+
+def recipe_part(case, inputs, rec, demand_kg: float):
+    """Where the recipe's current charge goes, the coverage it gives and its reserve (one solve)."""
+    r = getattr(case, "recipe", None)
+    if r is None:
+        return None
+    kg_per_mol_product = _f(inputs.molar_mass) / _f(inputs.active_fraction)
+    kg_product = r.current_charge.si if r.basis == "product" else r.current_charge.si / _f(inputs.active_fraction)
+    mol = kg_product / kg_per_mol_product
+    sol = model.solve(inputs, dose_mol=mol)
+    split = {k: _f(v) for k, v in model.split_by_phase(sol).items()}
+    reserve = max(0.0, 1.0 - demand_kg / kg_product) if math.isfinite(demand_kg) else math.nan
+    return parts.RecipePart(
+        kg_product=kg_product, kg_active=kg_product * _f(inputs.active_fraction), mol=mol,
+        coverage=_f(sol.state.coverage), free_concentration=_f(sol.state.free_concentration), split_mol=split,
+        times_recommended=kg_product / rec.kg_product_per_batch if rec.kg_product_per_batch else math.nan,
+        reserve_share=reserve, demand_kg_product=demand_kg)
 
 
 # ---------------------------------------------------------------------------------------------
