@@ -994,3 +994,27 @@ def compare_view(cases: list, points: int = 40) -> dict:
     differs = {k: any(k in r["differs"] for r in rows) for k in keys}
     return {"columns": [{"key": k, "label": lab, "unit": u} for k, lab, u in COMPARE_COLUMNS],
             "rows": rows, "curves": curves, "differs": differs}
+
+
+def apply_table_edits(rows: list[dict], edits: dict, columns: list[str]) -> list[dict]:
+    """Return table rows with a data editor's edits applied (``edited_rows`` {position: {column:
+    value}}, ``added_rows`` [{column: value}], ``deleted_rows`` [position]), every row keyed by
+    ``columns``.
+
+    >>> apply_table_edits([{"a": 1, "b": None}], {"edited_rows": {"0": {"b": 2}}, "added_rows": [{"a": 3}],
+    ...                   "deleted_rows": []}, ["a", "b"])
+    [{'a': 1, 'b': 2}, {'a': 3, 'b': None}]
+    >>> apply_table_edits([{"a": 1}, {"a": 2}], {"deleted_rows": [0]}, ["a"])
+    [{'a': 2}]
+    """
+    out = [{c: r.get(c) for c in columns} for r in rows]
+    for pos, change in (edits.get("edited_rows") or {}).items():
+        i = int(pos)
+        if 0 <= i < len(out):
+            out[i].update({c: v for c, v in change.items() if c in columns})
+    for added in edits.get("added_rows") or []:
+        out.append({c: added.get(c) for c in columns})
+    for i in sorted({int(p) for p in edits.get("deleted_rows") or []}, reverse=True):
+        if 0 <= i < len(out):
+            out.pop(i)
+    return out

@@ -68,7 +68,7 @@ if state.new_upload(up, "trials"):
         st.session_state[TABLE] = rows
         st.session_state["trials_file"] = str(state.work_dir() / saved)
         st.session_state[SOURCE] = saved
-        st.session_state.pop("trials_editor", None)
+        st.session_state["trials_editor_v"] = st.session_state.get("trials_editor_v", 0) + 1
         st.session_state.pop(RUN, None)
 if st.session_state.get("trials_error"):
     st.error(st.session_state["trials_error"] + " — nothing was read from the file.", icon=":material/error:")
@@ -101,8 +101,12 @@ columns = {
                                                   "empty: 15 %", min_value=0.0, format="%.3g"),
     "notes": st.column_config.TextColumn("notes", help="not read by the calibration"),
 }
-rows = st.session_state.get(TABLE) or EMPTY
-frame = pd.DataFrame(rows, columns=HEADS)
+EDITOR = f"trials_editor_{st.session_state.setdefault('trials_editor_v', 0)}"  # a new upload: a new editor
+BASE_ROWS = "trials_base_rows"  # the rows the editor started from; its own state holds the edits since
+if EDITOR not in st.session_state or BASE_ROWS not in st.session_state:
+    # a fresh editor (first visit, back from another page, a new upload): start from the rows kept so far
+    st.session_state[BASE_ROWS] = list(st.session_state.get(TABLE) or EMPTY)
+frame = pd.DataFrame(st.session_state[BASE_ROWS], columns=HEADS)
 TEXT = ("batch", "stable", "notes")
 for col in HEADS:  # each column one type, whatever the rows held (a missing key is NaN otherwise)
     if col in TEXT:
@@ -111,8 +115,11 @@ for col in HEADS:  # each column one type, whatever the rows held (a missing key
                                dtype=object)
     else:
         frame[col] = pd.to_numeric(frame[col], errors="coerce").astype(float)
-edited = st.data_editor(frame, num_rows="dynamic", column_config=columns, key="trials_editor", hide_index=True,
+edited = st.data_editor(frame, num_rows="dynamic", column_config=columns, key=EDITOR, hide_index=True,
                         width="stretch", disabled=use != "table")
+# the rows as edited, kept in the session: they survive moving to another page and back
+st.session_state[TABLE] = views.apply_table_edits(st.session_state[BASE_ROWS], st.session_state.get(EDITOR) or {},
+                                                  HEADS)
 st.caption("Units as in the headers; empty cells are missing measurements, not zeros; rows are counted as in the "
            "CSV file (the first trial is row 2); stable: yes or no after the storage test, empty when not tested.")
 
