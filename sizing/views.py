@@ -640,7 +640,7 @@ _COMPONENT_PATH = re.compile(r"^blend\.component\[(\d+)\](?:\.(\w+))?$")
 SHARED_ACTIVE_KEYS = ("name", "molar_mass", "active_fraction", "cmc", "max_surface_excess", "area_per_molecule",
                       "adsorption_constant", "gibbs_prefactor", "partition_coefficient", "reference_temperature",
                       "micellisation_enthalpy", "adsorption_enthalpy", "counterion_binding", "krafft_point",
-                      "cloud_point")
+                      "cloud_point", "charge", "diffusivity")
 #: the temperature and salt keys of a surfactant or blend component (issue 11)
 CONDITION_KEYS = ("reference_temperature", "micellisation_enthalpy", "adsorption_enthalpy", "counterion_binding",
                   "krafft_point", "cloud_point")
@@ -710,12 +710,17 @@ def blend_of_surfactant(data: dict, second_name: str = "co-surfactant", share: f
     notes = []
     first = {k: s[k] for k in SHARED_ACTIVE_KEYS if k in s}
     first["name"] = str(s.get("name") or "surfactant") or "surfactant"
-    if s.get("price_per_kg") is not None:
-        first["price"] = f"{s['price_per_kg']} {s.get('currency') or 'EUR'}/kg"
+    price = s.get("price_per_kg")
+    if isinstance(price, str) and _PRICE.match(price):  # already '1.2 EUR/kg'
+        first["price"] = price
+    elif isinstance(price, (int, float)):
+        first["price"] = f"{price} {s.get('currency') or 'EUR'}/kg"
     if str(s.get("isotherm", "langmuir")).lower() != "langmuir":
         notes.append(f"the {s.get('isotherm')} isotherm became competitive Langmuir (blends use it)")
-    if s.get("diffusivity") is not None:
-        notes.append("the monomer diffusivity is left out (the adsorption-speed check is not modelled for blends)")
+    for key, what in (("measured_in", "the phase the constants were measured in"),
+                      ("plateau_tension", "the measured plateau tension")):
+        if s.get(key) is not None:
+            notes.append(f"{what} ({key}) is left out: a blend component does not take it")
     second = copy.deepcopy(first)
     second["name"] = second_name if second_name != first["name"] else second_name + " 2"
     first["fraction"] = float(f"{1.0 - share:.10g}")

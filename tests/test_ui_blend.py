@@ -156,3 +156,26 @@ def test_add_and_remove_a_component():
     at.selectbox(key="f:blend.micelles").set_value("regular")
     run(at)
     assert at.session_state["case_dict"]["blend"]["interaction"] == -4.1  # brought back
+
+
+def test_every_langmuir_demo_turned_into_a_blend_keeps_its_dose():
+    """Two equal components give the single surfactant's answer to 1e-9 (issue 10's own check), so the
+    page's conversion must not move the dose of any shipped Langmuir demo."""
+    checked = 0
+    for path in sorted(DEMOS.glob("*.toml")):
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+        s = data.get("surfactant")
+        if not isinstance(s, dict) or s.get("from") or str(s.get("isotherm", "langmuir")) != "langmuir" \
+                or s.get("measured_in") or s.get("plateau_tension") or s.get("cmc") is None:
+            continue
+        single = engine(data)
+        if not single["feasible"]:
+            continue
+        blend, _ = views.blend_of_surfactant(data)
+        assert "surfactant" not in blend and len(blend["blend"]["component"]) == 2
+        both = engine(blend)
+        assert abs(both["dose"]["kg_product"] / single["dose"]["kg_product"] - 1) < 1e-9, path.name
+        back, _ = views.surfactant_of_blend(blend)
+        assert abs(engine(back)["dose"]["kg_product"] / single["dose"]["kg_product"] - 1) < 1e-12, path.name
+        checked += 1
+    assert checked >= 3
