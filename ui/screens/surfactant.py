@@ -225,6 +225,8 @@ def _component_editor(i: int, where) -> None:
         field(f"{base}.gibbs_prefactor", "Gibbs prefactor n [-]", kind="number", optional=True, where=c2)
         field(f"{base}.price", "Price per kg of its product [e.g. 1.8 EUR/kg]", optional=True,
               help="with a price on every component the plan reports the cost and the cheapest ratio")
+        field(f"{base}.diffusivity", "Monomer diffusivity [e.g. 5e-10 m**2/s]", optional=True,
+              help="for the adsorption-speed check (with the residence time of the process)")
         if len(_components()) > 1:
             st.button("Remove this component", key=f"btn_remove_component_{i}", icon=":material/delete:",
                       on_click=_remove_component, args=(i,))
