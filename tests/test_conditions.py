@@ -152,3 +152,36 @@ def test_the_plan_shows_the_charge_across_temperatures():
     k = np.interp(348.15, c["temperature_K"], c["coverage"])
     assert k == pytest.approx(plan.recommendation.coverage_at_charge, rel=1e-3)  # the grid passes the batch
     assert "Process and storage" in __import__("sizing").render_report(plan)
+
+
+def test_random_conditions_agree_with_an_independent_calculation():
+    # 30 random batches (temperature, salt, enthalpies, binding, CMC, K, P): the dose for the
+    # coverage target computed here by hand, the CMC through scipy.optimize.brentq on the
+    # Corrin-Harkins relation CMC (CMC + c_s)**b = CMC_T**(1 + b), not through sizing.physics.conditions
+    from scipy.optimize import brentq
+
+    rng = np.random.default_rng(2026)
+    for _ in range(30):
+        t_c, salt, dh, dha = rng.uniform(5, 85), rng.uniform(0, 200), rng.uniform(-20e3, 20e3), rng.uniform(-40e3, 0)
+        b, cmc0, k0, p, theta = rng.uniform(0, 0.9), rng.uniform(0.5, 20), rng.uniform(0.5, 50), rng.uniform(0, 5), \
+            rng.uniform(0.3, 0.7)
+        surf = (f'reference_temperature = "25 degC"\nmicellisation_enthalpy = "{dh!r} J/mol"\n'
+                f'adsorption_enthalpy = "{dha!r} J/mol"\ncounterion_binding = {b!r}\npartition_coefficient = {p!r}')
+        text = (CASE.format(t=f"{t_c!r} degC", batch=f'salt = "{salt!r} mM"', surf=surf)
+                .replace('cmc = "8.2 mM"', f'cmc = "{cmc0!r} mM"')
+                .replace('adsorption_constant = "1.5 m**3/mol"', f'adsorption_constant = "{k0!r} m**3/mol"')
+                .replace("coverage = 0.5", f"coverage = {theta!r}"))
+        sol = model.solve_case(loads_case(text))
+        t, tr = t_c + 273.15, 298.15
+        cmc_t = cmc0 * math.exp(dh / ((1 + b) * GAS_CONSTANT) * (1 / t - 1 / tr))
+        cmc = brentq(lambda x: math.log(x) + b * math.log(x + salt) - (1 + b) * math.log(cmc_t), 1e-12, cmc_t + 1e-12,
+                     xtol=1e-15, rtol=1e-14) if salt > 0 else cmc_t
+        k = k0 * math.exp(-dha / GAS_CONSTANT * (1 / t - 1 / tr))
+        c = theta / (k * (1 - theta))  # Langmuir
+        vc, vd = 2 * 0.8, 2 * 0.2
+        area = 6 * vd / 3e-6
+        if c >= cmc:
+            assert not bool(sol.feasible)
+            continue
+        assert float(sol.inputs.cmc) == pytest.approx(cmc, rel=1e-9)
+        assert float(sol.dose_mol) == pytest.approx(c * vc + p * c * vd + 3e-6 * theta * area, rel=1e-9)
