@@ -228,3 +228,17 @@ def test_calibrating_an_updated_case_warns_of_double_counting(tmp_path):
                       'system = "emulsion"\nnotes = "calibrated on 3 trial batch(es) from t.csv"'))
     cal = calibrate(case, _trials(tmp_path, ["A,0.8,4.1,"]))
     assert any("count twice" in w for w in cal.warnings)
+
+
+def test_the_updated_case_of_a_blend_carries_the_learned_component_keys(tmp_path):
+    from sizing.outputs.calibrate_json import updated_case_toml
+
+    text = (ROOT / "cases_demo" / "cream_blend_pair.toml").read_text()
+    text = text.replace('cmc = "0.11 mM"', 'cmc = { value = "0.11 mM", rel_sd = 0.3 }')
+    case = loads_case(text, base_dir=ROOT / "cases_demo")
+    trials = _trials(tmp_path, ["T1,1.5,1.3", "T2,2.0,1.9"], "batch,charge [kg],serum concentration [mM]")
+    cal = calibrate(case, trials, samples=4000, seed=3)
+    new = loads_case(updated_case_toml(case, cal, "t.csv"), base_dir=ROOT / "cases_demo")
+    v = new.blend.component[1].cmc
+    assert v.spread is not None and v.si == pytest.approx(cal.posterior["blend.component[1].cmc"]["p50"], rel=1e-5)
+    assert "blend.component[1].cmc" in new.case.notes

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import copy
 import math
+import re
 
 from ..case import case_to_dict, dumps_case
 from ..texts import CAUTIONS, field_label
@@ -77,10 +78,18 @@ def updated_case_toml(case, cal, trials_name) -> str:
     """The case with each learned input at its posterior median and a log-normal spread from the
     posterior band (p10..p90), annotated in ``[case] notes`` with the trials it came from."""
     data = copy.deepcopy(case_to_dict(case))
+    written = []
     for path, b in cal.posterior.items():
         section, _, key = path.partition(".")
-        if key.startswith("component[") or section not in data or path not in case.quantities():
+        if section not in data or path not in case.quantities():
             continue
+        table = data[section]
+        m = re.fullmatch(r"component\[(\d+)\]\.(\w+)", key)
+        if m:  # a blend component's key: blend.component[i].cmc
+            comps = table.get("component") if isinstance(table, dict) else None
+            if not isinstance(comps, list) or int(m.group(1)) >= len(comps):
+                continue
+            table, key = comps[int(m.group(1))], m.group(2)
         v = case.quantities()[path]
         unit = {"length": "m", "concentration": "mol/m**3", "surface_excess": "mol/m**2",
                 "adsorption_constant": "m**3/mol", "molar_mass": "kg/mol", "volume": "m**3", "mass": "kg",
@@ -90,9 +99,10 @@ def updated_case_toml(case, cal, trials_name) -> str:
         s = (math.log(b["p90"]) - math.log(b["p10"])) / (2 * 1.2815515655446004)
         rel = math.sqrt(math.expm1(s * s))
         text = f"{b['p50']:.6g} {unit}".strip() if unit else b["p50"]
-        data[section][key] = {"value": text, "rel_sd": round(min(rel, 3.0), 4)}
+        table[key] = {"value": text, "rel_sd": round(min(rel, 3.0), 4)}
+        written.append(path)
     note = (f"calibrated on {len(cal.trials.batch)} trial batch(es) from {trials_name}: "
-            f"{', '.join(cal.posterior)} at posterior medians with spreads from the posterior p10..p90 "
+            f"{', '.join(written) or 'no input'} at posterior medians with spreads from the posterior p10..p90 "
             "(calibrate again from the original case, not from this file, to avoid counting trials twice)")
     data.setdefault("case", {})["notes"] = note
     return dumps_case(data)

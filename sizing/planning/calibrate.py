@@ -108,7 +108,7 @@ def read_trials(path) -> TrialRows:
     charge = num("charge")
     for i, c in enumerate(charge):
         if not (math.isfinite(c) and c > 0):
-            raise InputError(f"{path}: row {i + 2}, column charge: expected a charge > 0 kg of product, got {c!r}")
+            raise InputError(f"{path}: row {i + 2}, column charge: expected a charge > 0 kg of product, got {float(c):g} kg")
     for name in ("volume", "mass"):
         for i, v in enumerate(num(name)):
             if math.isfinite(v) and v <= 0:
@@ -329,7 +329,9 @@ def calibrate(case, trials: TrialRows, samples: int | None = None, seed: int | N
             logw += -0.5 * ((np.log(trials.d32[j]) - np.log(d32_pred[:, j])) / s) ** 2
             used.append("d32")
         if math.isfinite(trials.serum_concentration[j]):
-            cmc = float(np.nanmax(np.asarray(inputs.cmc, dtype=float)))
+            # the ceiling of free monomer: the CMC; for a blend the largest pure CMC (the monomer
+            # left by the interface need not have the charged composition, so the mixed CMC is no bound)
+            cmc = float(np.nanmax(np.asarray(inputs.cmc if inputs.blend is None else inputs.blend.cmc, dtype=float)))
             if math.isfinite(cmc) and trials.serum_concentration[j] > 1.5 * cmc:
                 raise InputError(f"{trials.path}: row {j + 2}, column serum concentration: "
                                  f"{trials.serum_concentration[j]:.4g} mol/m**3 is well above the CMC "
