@@ -8,6 +8,7 @@ figures as printed: rel 5e-3).
 from __future__ import annotations
 
 import os
+import re
 import tempfile
 import tomllib
 from pathlib import Path
@@ -274,3 +275,17 @@ def test_scenarios_in_one_table_and_one_chart():
     shown = float(str(table.loc["finer drops", "product [kg/batch]"]).lstrip("◆ "))
     assert shown == pytest.approx(fine, rel=5e-3)
     assert at.get("vega_lite_chart")  # one dose-against-coverage chart
+
+
+def test_case_page_takes_a_mass_fraction():
+    text = (DEMOS / "lotion_o_w.toml").read_text(encoding="utf-8")
+    p = Path(tempfile.mkdtemp()) / "mass.toml"
+
+    p.write_text(re.sub(r"(?m)^dispersed_fraction = .*$", "dispersed_mass_fraction = 0.2", text), encoding="utf-8")
+    at = run(page("case", p))
+    assert at.radio(key="sel_fraction").value == "batch.dispersed_mass_fraction"
+    assert any("mass fraction" in w.label.lower() for w in list(at.number_input) + list(at.text_input))
+    at.radio(key="sel_fraction").set_value("batch.dispersed_fraction")
+    run(at)
+    assert at.session_state["case_dict"]["batch"].get("dispersed_fraction") is not None
+    assert "dispersed_mass_fraction" not in at.session_state["case_dict"]["batch"]

@@ -212,8 +212,16 @@ with mid:
         field("batch.volume", "Batch volume [volume, e.g. 2 m**3 or 500 L]")
     else:
         field("batch.mass", "Batch mass [mass, e.g. 2000 kg]")
-    field("batch.dispersed_fraction", "Dispersed volume fraction phi [-]", kind="number",
-          help="volume fraction of drops or bubbles, between 0 and 1")
+    frac = state.either("Dispersed share given as", ["batch.dispersed_fraction", "batch.dispersed_mass_fraction"],
+                        {"batch.dispersed_fraction": "volume fraction", "batch.dispersed_mass_fraction": "mass fraction"},
+                        {"batch.dispersed_fraction": 0.2, "batch.dispersed_mass_fraction": 0.2}, key="sel_fraction")
+    if frac == "batch.dispersed_fraction":
+        field("batch.dispersed_fraction", "Dispersed volume fraction phi [-]", kind="number",
+              help="volume fraction of drops or bubbles, between 0 and 1")
+    else:
+        field("batch.dispersed_mass_fraction", "Dispersed mass fraction [-]", kind="number",
+              help="a recipe's share of oil by mass, between 0 and 1; turned into the volume fraction "
+                   "with both densities (give them below)")
     field("batch.temperature", "Temperature [e.g. 25 degC or 298.15 K]")
     field("batch.continuous_density", "Continuous-phase density [e.g. 997 kg/m**3]", optional=True,
           help="optional; needed for wt% and mass outputs")
