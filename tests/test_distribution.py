@@ -171,3 +171,11 @@ def test_table_that_does_not_add_up_is_noted():
     assert any("adds up to 145" in n for n in table_stats(t).notes)
     ok = table_from_columns({"upper": upper, "volume": np.array([10, 40, 40, 10.0])})
     assert table_stats(ok).notes == ()
+
+
+def test_the_normal_quantile_constants_are_scipys():
+    from scipy.special import ndtri
+
+    from sizing.physics import distribution
+
+    assert distribution.Z10 == ndtri(0.1) and distribution.Z90 == ndtri(0.9)

@@ -17,10 +17,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import expit, log_expit
 
 from .isotherm import check_model, lnkc_of_logit, logit, theta_of_c
 from .roots import bracketed_newton
+from .special import expit, log_expit
 
 
 @dataclass(frozen=True)

@@ -50,10 +50,10 @@ import functools
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import expit
 
 from ..constants import GAS_CONSTANT as R
 from .roots import bracketed_newton
+from .special import expit
 
 
 def _quiet(fn):

@@ -27,12 +27,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import gamma as gamma_fn
-from scipy.special import ndtri
 
 from ..errors import InputError
 
-Z10, Z90 = ndtri(0.1), ndtri(0.9)  # normal quantiles (scipy.stats.norm.ppf is ndtri; no scipy.stats import)
+# normal quantiles scipy.special.ndtri(0.1), ndtri(0.9) (= scipy.stats.norm.ppf), as constants: importing
+# scipy.special costs about 0.2 s of every command's start-up (tests/test_distribution.py checks them)
+Z10, Z90 = -1.2815515655446004, 1.2815515655446004
 
 
 @dataclass(frozen=True)
@@ -240,6 +240,8 @@ def rrsb_stats(characteristic_size, spread) -> SizeStats:
     """
     x = np.asarray(characteristic_size, dtype=float)
     n = np.asarray(spread, dtype=float)
+    from scipy.special import gamma as gamma_fn  # deferred: only RRSB needs it, and it is slow to import
+
     with np.errstate(invalid="ignore", divide="ignore"):
         d32 = x / gamma_fn(1.0 - 1.0 / n)
         d10 = np.where(n > 3, x * gamma_fn(1.0 - 2.0 / n) / gamma_fn(1.0 - 3.0 / n), np.nan)

@@ -34,9 +34,16 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy.special import stdtrit  # Student t quantile: stdtrit(dof, q) is scipy.stats.t.ppf(q, dof)
 
 from ..errors import InputError
+
+
+def stdtrit(dof, q):
+    """Student t quantile, ``scipy.special.stdtrit`` (= scipy.stats.t.ppf(q, dof)), imported when a band is
+    asked for: scipy.special costs about 0.2 s of every command's start-up."""
+    from scipy.special import stdtrit as _stdtrit  # deferred: slow to import, only prediction bands need it
+
+    return _stdtrit(dof, q)
 
 VARIABLES = ("pressure", "energy_density", "tip_speed")
 RULES = ("constant_power_per_volume", "constant_tip_speed", "constant_speed", "given_speed")

@@ -27,11 +27,11 @@ References
 from __future__ import annotations
 
 import numpy as np
-from scipy.special import expit, lambertw
 
 from ..constants import AVOGADRO, GAS_CONSTANT
 from ..errors import InputError
 from .roots import bracketed_newton
+from .special import expit
 
 MODELS = ("langmuir", "frumkin", "volmer")
 CRITICAL_INTERACTION = 2.0  # Frumkin beta at the two-dimensional critical point [-]
@@ -313,6 +313,8 @@ def theta_of_c(c, adsorption_constant, model: str = "langmuir", beta=0.0):
     if model == "langmuir":
         return kc / (1.0 + kc)
     if model == "volmer":
+        from scipy.special import lambertw  # deferred: scipy.special is slow to import; only Volmer needs it
+
         u = lambertw(kc).real
         with np.errstate(invalid="ignore"):
             return np.where(np.isinf(kc), 1.0, u / (1.0 + u))
