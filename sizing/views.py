@@ -34,8 +34,8 @@ from .planning.achievable import achievable_curve
 from .planning.calibrate import calibrate, read_trials
 from .planning.kinetics import adsorption_check
 from .planning.uncertainty import NOT_IN_DOSE, spread_quantiles
-from .texts import field_label, unreachable_explanation  # noqa: F401  (field_label: used by the workbench)
-from .units import _NUMBER, DIMENSIONS, format_si, parse
+from .texts import MACROMOLECULE_MOLAR_MASS, field_label, unreachable_explanation  # noqa: F401  (field_label: used by the workbench)
+from .units import _NUMBER, DIMENSIONS, format_si, parse, parse_value
 
 # ---------------------------------------------------------------------------------------------
 # the built-in demo and a blank case
@@ -1023,3 +1023,23 @@ def apply_table_edits(rows: list[dict], edits: dict, columns: list[str]) -> list
         if 0 <= i < len(out):
             out.pop(i)
     return out
+
+
+def suggests_surface_load(data: dict) -> bool:
+    """Return True for a raw case dict of a protein or polymer: one surfactant, no CMC, molar mass
+    above ``texts.MACROMOLECULE_MOLAR_MASS`` (the workbench then offers a surface-load target).
+
+    >>> suggests_surface_load({"surfactant": {"molar_mass": "66 kg/mol"}})
+    True
+    >>> suggests_surface_load({"surfactant": {"molar_mass": "288 g/mol", "cmc": "8 mM"}})
+    False
+    """
+    s = data.get("surfactant") if isinstance(data, dict) else None
+    if not isinstance(s, dict) or data.get("blend") or s.get("cmc") not in (None, ""):
+        return False
+    raw = s.get("molar_mass")
+    raw = raw.get("value") if isinstance(raw, dict) else raw
+    try:
+        return parse_value(raw, "molar_mass") > MACROMOLECULE_MOLAR_MASS
+    except Exception:  # an unreadable molar mass: its own field says so
+        return False

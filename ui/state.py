@@ -36,7 +36,7 @@ PREFIX = "f:"
 UNDO = "case_undo"  # the case a replacement put aside: {"case", "source", "stash", "loaded"}
 SCENARIOS = "scenarios"  # named copies of the case dict, compared on the Scenarios page
 LOADED = "case_loaded"  # the case text as loaded (to tell whether it has been edited since)
-OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty", "process")
+OPTIONAL_SECTIONS = ("recommendation", "trial", "uncertainty", "process", "recipe")
 
 CAUTIONS = CAUTIONS_BRIEF  # one home for the texts: sizing.texts
 
@@ -446,7 +446,7 @@ def _numbers(text: str):
 def _store(path: str, kind: str, optional: bool) -> None:
     text = st.session_state.get(PREFIX + path, "")
     if kind == "choice":
-        put(path, text)
+        put(path, None if optional and text in ("", None) else text)  # an optional choice left empty: not given
         return
     text = str(text)
     if text.strip() == "" and optional:

@@ -229,8 +229,9 @@ with mid:
 
 with right:
     st.subheader("Target")
-    kinds = {"coverage": "coverage [-]", "tension": "tension", "free_concentration": "free concentration"}
-    defaults = {"coverage": 0.8, "tension": "35 mN/m", "free_concentration": "0.5 mM"}
+    kinds = {"coverage": "coverage [-]", "tension": "tension", "free_concentration": "free concentration",
+             "surface_load": "surface load (protein, polymer)"}
+    defaults = {"coverage": 0.8, "tension": "35 mN/m", "free_concentration": "0.5 mM", "surface_load": "2 mg/m**2"}
     now = next((k for k in kinds if state.get(f"target.{k}") is not None), "coverage")
     kind = st.selectbox("Target kind", list(kinds), index=list(kinds).index(now),
                         format_func=kinds.get, key="sel_target_kind")
@@ -242,8 +243,15 @@ with right:
               help="fraction of the saturated surface excess, between 0 and 1")
     elif kind == "tension":
         field("target.tension", "Target tension [e.g. 35 mN/m]")
+    elif kind == "surface_load":
+        field("target.surface_load", "Target surface load [e.g. 2 mg/m**2 or 0.05 umol/m**2]",
+              help="the adsorbed mass per area to reach; below the saturation load (max surface excess); "
+                   "not for blends")
     else:
         field("target.free_concentration", "Target free monomer concentration [e.g. 0.5 mM]")
+    if kind != "surface_load" and views.suggests_surface_load(state.ensure_case()):
+        st.caption("A protein or polymer (no CMC, molar mass above 5 kg/mol): a surface-load target "
+                   "(mg/m²) fits it better than a tension, which the model does not estimate for it.")
     field("target.margin", "Safety margin on the dose [-]", kind="number", help="0.15 = 15 % more than the balance")
 
     st.subheader("Charge and trial")

@@ -26,6 +26,9 @@ target_text = {
     "tension": f"tension {num(target['value_si'] * MN, 'mN/m')}",
     "free_concentration": f"free concentration {num(target['value_si'], 'mM')}",
 }[target["kind"]]
+if target.get("given") == "surface_load":  # a protein's surface load, solved as the coverage it is
+    target_text = (f"surface load {num(target['surface_load_kg_m2'] * 1e6, 'mg/m²')} "
+                   f"(coverage {num(target['value_si'], '', 3)} of the saturation load)")
 d32_text = (f"plant d32 {num(s['d32_m'] * UM, 'µm')} (scale-up; lab d32 {num(d32['lab_d32_m'] * UM, 'µm')})"
             if plant else f"d32 {num(s['d32_m'] * UM, 'µm')}")
 st.caption(f"Target: **{target_text}** · {d32_text} · "
@@ -65,8 +68,13 @@ charts.tiles([
     ("Free monomer", num(st_["free_concentration_mol_m3"], "mM"), "in the continuous phase, at equilibrium"),
     ("Coverage", num(st_["coverage"], "(-)"), "surface excess over its saturated value"),
     ("Surface excess", num(st_["surface_excess_mol_m2"] * 1e6, "µmol/m²")),
-    ("Tension", num(st_["tension_N_m"] and st_["tension_N_m"] * MN, "mN/m")),
+    ("Surface load", num(st_.get("surface_load_kg_m2") and st_["surface_load_kg_m2"] * 1e6, "mg/m²"),
+     "adsorbed mass per area") if st_.get("tension_N_m") is None else
+    ("Tension", num(st_["tension_N_m"] * MN, "mN/m")),
 ])
+if st_.get("tension_N_m") is None and st_.get("plateau_tension_N_m") is not None:
+    st.caption(f"Measured plateau tension (full coverage): {num(st_['plateau_tension_N_m'] * MN, 'mN/m')}; "
+               "the model gives no tension for a protein or polymer.")
 if st_["at_cmc_ceiling"]:
     st.caption("The state shown is at the CMC ceiling.")
 

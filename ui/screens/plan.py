@@ -9,8 +9,24 @@ from sizing.errors import InputError
 from ui import charts, state
 from ui.charts import MN, num
 
+
+def _recipe_fields() -> None:
+    st.subheader("The current recipe charge")
+    state.field("recipe.current_charge", "Current recipe charge per batch [mass, e.g. 50 kg]", optional=True,
+                help="optional: today's charge, to see where it goes and its reserve beyond the demand")
+    if state.get("recipe.current_charge"):
+        state.field("recipe.basis", "The current charge is given as", kind="choice", options=["product", "active"],
+                    help="product as delivered, or active matter")
+    elif state.get("recipe.basis") is not None:  # no charge left: no recipe section
+        state.put("recipe.basis", None)
+
+
 state.ensure_case()
 st.title("Plan")
+# a bad recipe charge stops the plan: its field comes first so that it can be mended here
+recipe_first = any(p.startswith("recipe") for p in state.check()["by_field"])
+if recipe_first:
+    _recipe_fields()
 result = state.needs_valid_case()
 slug = re.sub(r"[^a-z0-9]+", "_", str(state.get("case.title") or "case").lower()).strip("_") or "case"
 
@@ -29,6 +45,8 @@ if plan is not None:
     r = plan["result"]
     rec = r["recommendation"]
     name = result["case"].active_name
+    sf = result["case"].surfactant
+    plateau = sf.plateau_tension.si if sf is not None and sf.plateau_tension is not None else None
     for w in r.get("warnings", []):
         st.warning("**Check:** " + state.md_escape(w), icon=":material/warning:")
     if not rec["reaches_target"]:
@@ -55,7 +73,29 @@ if plan is not None:
             f"({rec['increment_source']}). At the charge: coverage {num(rec['coverage_at_charge'], '')}, "
             f"free monomer {num(rec['free_concentration_at_charge_mol_m3'], 'mM')}"
             + (f", tension {num(rec['tension_at_charge_N_m'] * MN, 'mN/m')}" if rec["tension_at_charge_N_m"] else "")
+            + (f", measured plateau tension {num(plateau * MN, 'mN/m')}" if plateau else "")
             + ".")
+
+    if not recipe_first:
+        _recipe_fields()
+    rp = r.get("recipe")
+    if rp:
+        charts.tiles([
+            ("Current charge", num(rp["current_charge_kg_product"], "kg", 4),
+             f"product per batch ({num(rp['current_charge_kg_active'], 'kg')} active)"),
+            ("Against the recommended", num(rp["times_recommended_charge"], "×"), "current over recommended charge"),
+            ("Coverage it gives", num(rp["coverage"], "(-)"),
+             f"free {num(rp['free_concentration_mol_m3'], 'mM')} at equilibrium"),
+            ("Reserve", num(100 * rp["reserve_share"], "% of the charge"), "beyond the equilibrium demand")
+            if rp["current_charge_kg_product"] >= rp["demand_kg_product"] else
+            ("Short of the demand", num(rp["demand_kg_product"], "kg"), "product needed for the target"),
+        ])
+        total = sum(v or 0 for v in rp["split_mol"].values()) or 1.0
+        st.caption("Where it goes: " + ", ".join(f"{k} {num(100 * (v or 0) / total, '%', 3)}"
+                                                 for k, v in rp["split_mol"].items() if v))
+        st.caption("The reserve may be doing other work (storage stability, texture, process losses). Lower a "
+                   "recipe charge only through trials, within the legal limits for the product and with "
+                   "qualified people.")
 
     info = state.view("d32_info")
     if info["scaleup"]:

@@ -376,6 +376,11 @@ def _single_parameters() -> None:
           optional=True)
     field("surfactant.clean_tension", "Clean-interface tension [e.g. 50 mN/m]", optional=True,
           help="needed for tension outputs and tension targets; a foam defaults to water (IAPWS R1-76)")
+    field("surfactant.measured_in", "CMC and K measured in", kind="choice", options=["", "water", "oil"], optional=True,
+          help="the phase the CMC and adsorption constant were measured in; empty = the continuous phase. "
+               "In an oil-continuous case, water values are converted through the partition coefficient")
+    field("surfactant.plateau_tension", "Plateau tension, measured at full coverage [e.g. 50 mN/m]", optional=True,
+          help="a protein or polymer: the model gives no tension for it; the measured value is shown instead")
     c1, c2 = st.columns(2)
     field("surfactant.price_per_kg", "Price per kg of product [currency/kg]", kind="number", optional=True, where=c1)
     field("surfactant.currency", "Currency", kind="text", optional=True, where=c2)
