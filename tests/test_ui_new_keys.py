@@ -129,3 +129,12 @@ def test_recipe_charge_on_the_plan_page():
     assert any("recipe.current_charge" in e.value for e in at.error), [e.value for e in at.error]
     by_key(at.text_input, "f:recipe.current_charge").set_value("").run()
     assert "recipe" not in at.session_state["case_dict"]
+
+
+def test_protein_trial_table_and_storage_show_no_model_tension():
+    at = run(page("plan", PROTEIN))
+    cols = [str(c) for t in at.table for c in t.value.columns]
+    assert not any("tension" in c for c in cols), cols
+    proc = run(page("process", PROTEIN))
+    assert not any("Tension" in m.label for m in proc.metric)
+    assert "nan" not in texts(proc).lower()

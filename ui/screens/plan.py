@@ -113,6 +113,9 @@ if plan is not None:
     if result["case"].surfactant is not None and result["case"].surfactant.cmc is None:  # no CMC (a protein, a polymer): no micelles at any level
         for row in rows:
             row.pop("micelle share [%]", None)
+    if all(t["tension_N_m"] is None for t in r["trial"]):  # a protein or polymer: no model tension
+        for row in rows:
+            row.pop("tension [mN/m]", None)
     st.table(pd.DataFrame(rows).set_index("level [× charge]"))
     with st.expander("What to measure at each level"):
         for t in r["trial"]:

@@ -122,9 +122,8 @@ if s.get("storage"):
             ("Free monomer at storage", num(stg["free_concentration_mol_m3"], "mM"), "in the continuous phase"),
             ("CMC at storage", num(stg["cmc_mol_m3"], "mM"), "after the temperature and salt laws"),
             ("Micelles at storage", num(stg["micelle_mol"], "mol"), "surfactant held in micelles, per batch"),
-            ("Tension at storage", num(stg["tension_N_m"] and stg["tension_N_m"] * MN, "mN/m"),
-             "of the covered interface"),
-        ] + ([("K at storage", num(stg["adsorption_constant_m3_mol"], "m³/mol"), "adsorption constant there")]
+        ] + ([("Tension at storage", num(stg["tension_N_m"] * MN, "mN/m"), "of the covered interface")]
+             if stg.get("tension_N_m") is not None else []) + ([("K at storage", num(stg["adsorption_constant_m3_mol"], "m³/mol"), "adsorption constant there")]
              if stg.get("adsorption_constant_m3_mol") is not None else []))
         if target["kind"] == "coverage" and stg["coverage"] < target["value_si"]:
             st.warning(f"**Storage coverage {num(stg['coverage'], '')} is below the target "
