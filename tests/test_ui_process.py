@@ -6,42 +6,22 @@ blocks (``at_batch``, ``storage``) and the plan's ``conditions`` part for the sa
 
 from __future__ import annotations
 
-import os
-import tempfile
 import tomllib
 from pathlib import Path
 
 import pytest
 from streamlit.testing.v1 import AppTest
+from ui_helpers import DEMOS, PAGES, metric, run, seeded  # noqa: F401
 
 from sizing import views
 from sizing.case import parse_case
 
-os.environ.setdefault("SIZING_WORKSPACES", tempfile.mkdtemp(prefix="sizing-ws-test-"))
-
-ROOT = Path(__file__).resolve().parents[1]
-PAGE = ROOT / "ui" / "screens" / "process.py"
-DEMOS = ROOT / "cases_demo"
+PAGE = PAGES / "process.py"
 HOT = DEMOS / "hot_cream_salted_anionic.toml"
 
 
 def page(case_file: Path) -> AppTest:
-    at = AppTest.from_file(str(PAGE), default_timeout=90)
-    at.session_state["case_dict"] = tomllib.loads(case_file.read_text(encoding="utf-8"))
-    at.session_state["case_base_dir"] = str(case_file.parent)
-    return at
-
-
-def run(at: AppTest) -> AppTest:
-    at.run()
-    assert not at.exception, [e.value for e in at.exception]
-    return at
-
-
-def metric(at: AppTest, label: str) -> str:
-    found = [m.value for m in at.metric if m.label == label]
-    assert found, f"no metric {label!r}; have {[m.label for m in at.metric]}"
-    return found[0]
+    return seeded(PAGE, case_file)
 
 
 def engine(case_file: Path):
