@@ -8,21 +8,15 @@ bad value shows an error under the field that names it.
 from __future__ import annotations
 
 import copy
-import os
-import tempfile
 import tomllib
 from pathlib import Path
 
 from streamlit.testing.v1 import AppTest
+from ui_helpers import DEMOS, PAGES, run
 
 from sizing import views
 from sizing.case import parse_case
 
-os.environ.setdefault("SIZING_WORKSPACES", tempfile.mkdtemp(prefix="sizing-ws-test-"))
-
-ROOT = Path(__file__).resolve().parents[1]
-PAGES = ROOT / "ui" / "screens"
-DEMOS = ROOT / "cases_demo"
 PROTEIN = DEMOS / "food_foam_protein.toml"
 LOTION = DEMOS / "lotion_o_w.toml"
 
@@ -34,12 +28,6 @@ def page(name: str, case_file: Path, edit=None) -> AppTest:
         edit(data)
     at.session_state["case_dict"] = data
     at.session_state["case_base_dir"] = str(case_file.parent)
-    return at
-
-
-def run(at: AppTest) -> AppTest:
-    at.run()
-    assert not at.exception, [e.value for e in at.exception]
     return at
 
 
