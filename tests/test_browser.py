@@ -95,8 +95,16 @@ def product_text(page) -> str:
 def nav(page, title: str) -> None:
     """Move to another page through the sidebar (the session and its case are kept)."""
     # the link text ends with the title (an icon name may come first): "Plan" does not pick "Plant trials"
-    page.get_by_test_id("stSidebarNavLink").filter(has_text=re.compile(rf"{re.escape(title)}\s*$")).click()
-    page.get_by_role("heading", name=title, level=1).wait_for()
+    link = page.get_by_test_id("stSidebarNavLink").filter(has_text=re.compile(rf"{re.escape(title)}\s*$"))
+    heading = page.get_by_role("heading", name=title, level=1)
+    for attempt in range(3):  # a click landing while the app reruns (a loaded machine) can be lost: click again
+        link.click()
+        try:
+            heading.wait_for(timeout=30000)
+            return
+        except Exception:
+            if attempt == 2:
+                raise
 
 
 def run_story(url: str, shot: Path, d32: str = "1.0 um") -> tuple[str, str]:
@@ -105,6 +113,7 @@ def run_story(url: str, shot: Path, d32: str = "1.0 um") -> tuple[str, str]:
     with sync_api.sync_playwright() as p:
         browser = p.chromium.launch(executable_path=CHROMIUM, args=ARGS)
         page = browser.new_page(viewport={"width": 1400, "height": 1500})
+        page.set_default_timeout(60000)  # a loaded CI machine: every wait is for an element, never a sleep
         page.goto(url)  # the Case page
         page.get_by_role("button", name="Load the demo case").click()
         page.get_by_text("Editing: demo case").wait_for()
