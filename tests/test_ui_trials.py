@@ -11,30 +11,24 @@ themselves are called directly (and driven in a real browser by tests/test_brows
 from __future__ import annotations
 
 import os
-import tempfile
 import tomllib
 from pathlib import Path
 
 import pytest
 from streamlit.testing.v1 import AppTest
+from ui_helpers import DEMOS, PAGES, ROOT, metric, run, seeded  # noqa: F401  (the shared AppTest setup)
 
 from sizing import views
 from sizing.case import parse_case
 from sizing.errors import InputError
 
-os.environ.setdefault("SIZING_WORKSPACES", tempfile.mkdtemp(prefix="sizing-ws-test-"))
-
-ROOT = Path(__file__).resolve().parents[1]
-PAGE = ROOT / "ui" / "screens" / "trials.py"
-DEMOS = ROOT / "cases_demo"
+PAGE = PAGES / "trials.py"
 CASE = DEMOS / "agro_ew_stirred_tank.toml"
 TRIALS = DEMOS / "agro_ew_stirred_tank_trials.csv"
 
 
 def page(rows: list[dict] | None = None, upload: Path | None = None) -> AppTest:
-    at = AppTest.from_file(str(PAGE), default_timeout=120)
-    at.session_state["case_dict"] = tomllib.loads(CASE.read_text(encoding="utf-8"))
-    at.session_state["case_base_dir"] = str(CASE.parent)
+    at = seeded(PAGE, CASE, timeout=120)
     if rows is not None:
         at.session_state["trials_table"] = rows
     if upload is not None:  # what the page's upload handler stores after the checks
@@ -42,18 +36,6 @@ def page(rows: list[dict] | None = None, upload: Path | None = None) -> AppTest:
         at.session_state["trials_file"] = str(upload)
         at.session_state["trials_source"] = upload.name
     return at
-
-
-def run(at: AppTest) -> AppTest:
-    at.run()
-    assert not at.exception, [e.value for e in at.exception]
-    return at
-
-
-def metric(at: AppTest, label: str) -> str:
-    found = [m.value for m in at.metric if m.label == label]
-    assert found, f"no metric {label!r}; have {[m.label for m in at.metric]}"
-    return found[0]
 
 
 def engine(path: Path) -> dict:

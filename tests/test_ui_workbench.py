@@ -10,42 +10,20 @@ from __future__ import annotations
 import os
 import re
 import tempfile
-import tomllib
 from pathlib import Path
 
 import pytest
 from streamlit.testing.v1 import AppTest
+from ui_helpers import DEMOS, PAGES, ROOT, metric, run, seeded  # noqa: F401  (the shared AppTest setup)
 
 from sizing import views
 from sizing.case import load_case
 
-# the workbench saves each session's case on disk: keep the tests' saves out of the home folder
-os.environ.setdefault("SIZING_WORKSPACES", tempfile.mkdtemp(prefix="sizing-ws-test-"))
-
-ROOT = Path(__file__).resolve().parents[1]
-PAGES = ROOT / "ui" / "screens"
-DEMOS = ROOT / "cases_demo"
 MINI = DEMOS / "miniemulsion_hph.toml"
 
 
 def page(name: str, case_file: Path | None = None) -> AppTest:
-    at = AppTest.from_file(str(PAGES / f"{name}.py"), default_timeout=60)
-    if case_file is not None:
-        at.session_state["case_dict"] = tomllib.loads(case_file.read_text(encoding="utf-8"))
-        at.session_state["case_base_dir"] = str(case_file.parent)
-    return at
-
-
-def run(at: AppTest) -> AppTest:
-    at.run()
-    assert not at.exception, [e.value for e in at.exception]
-    return at
-
-
-def metric(at: AppTest, label: str) -> str:
-    found = [m.value for m in at.metric if m.label == label]
-    assert found, f"no metric {label!r}; have {[m.label for m in at.metric]}"
-    return found[0]
+    return seeded(PAGES / f"{name}.py", case_file, timeout=60)
 
 
 def number(text: str) -> float:
