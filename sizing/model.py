@@ -889,7 +889,7 @@ def macromolecule_warnings(inputs: Inputs) -> list[str]:
     """A protein or polymer: say that tensions are not estimated, and what to measure instead."""
     if not inputs.macromolecule:
         return []
-    plateau = _f(inputs.plateau_tension)
+    plateau = float(np.max(np.asarray(inputs.plateau_tension, dtype=float)))
     return [f"a protein or polymer (no CMC, molar mass {float(np.max(inputs.molar_mass)):.4g} kg/mol): tensions are "
             "not estimated, as the small-molecule equation of state understates the lowering (about 0.7 mN/m "
             "where a caseinate gives about 20, from memory); "
@@ -897,6 +897,3 @@ def macromolecule_warnings(inputs: Inputs) -> list[str]:
                if math.isfinite(plateau) else "measure the plateau tension (surfactant.plateau_tension); ")
             + "judge trial levels by drop or bubble size and stability, with the surface load in mg/m**2"]
 
-
-def _f(x) -> float:
-    return float(np.max(np.asarray(x, dtype=float))) if np.size(x) else math.nan

@@ -124,6 +124,15 @@ class AdsorptionCheck:
 MIN_SHARE = 0.05  # a blend component with less of the interface than this does not set the verdict
 
 
+def _verdict(figures: str, optimistic: bool, expect: str) -> str:
+    """The check's message: the figures and, when flagged, why the equilibrium dose is optimistic."""
+    if not optimistic:
+        return "adsorption fast enough: " + figures
+    return ("ADSORPTION MAY BE TOO SLOW: " + figures + f"; above {FLAG_RATIO:g} the new interface is not covered "
+            f"while drops are made, so the equilibrium dose is OPTIMISTIC; {expect}, and test a higher level in "
+            "the trial")
+
+
 def adsorption_check(case, solution=None) -> AdsorptionCheck | None:
     """Return the adsorption-speed check of a case, or None when it lacks the data.
 
@@ -147,12 +156,7 @@ def adsorption_check(case, solution=None) -> AdsorptionCheck | None:
     figures = (f"tau_D = (Gamma/c)**2/D = ({g * 1e6:.3g} umol/m**2 / {c:.3g} mM)**2 / {d.si:.3g} m**2/s "
                f"= {a.diffusion_time:.3g} s against a residence time of {t_res.si:.3g} s "
                f"(ratio {float(a.ratio):.3g})")
-    if optimistic:
-        message = ("ADSORPTION MAY BE TOO SLOW: " + figures + f"; above {FLAG_RATIO:g} the new interface "
-                   "is not covered while drops are made, so the equilibrium dose is OPTIMISTIC; expect "
-                   "larger drops or more coalescence, and test a higher level in the trial")
-    else:
-        message = "adsorption fast enough: " + figures
+    message = _verdict(figures, optimistic, "expect larger drops or more coalescence")
     return AdsorptionCheck(
         depth_m=float(a.depth), diffusion_time_s=float(a.diffusion_time),
         ward_tordai_time_s=float(a.ward_tordai_time), residence_time_s=float(a.residence_time),
@@ -190,12 +194,7 @@ def _blend_check(case, solution=None) -> AdsorptionCheck | None:
                f"tau_D = ({g[k] * 1e6:.3g} umol/m**2 / {c[k]:.3g} mM)**2 / {d[k]:.3g} m**2/s = "
                f"{float(a.diffusion_time[k]):.3g} s against a residence time of {t_res.si:.3g} s "
                f"(ratio {float(a.ratio[k]):.3g})")
-    if optimistic:
-        message = ("ADSORPTION MAY BE TOO SLOW: " + figures + f"; above {FLAG_RATIO:g} the new interface is not "
-                   "covered while drops are made, so the equilibrium dose is OPTIMISTIC (the faster components "
-                   "take the fresh interface first); expect larger drops, and test a higher level in the trial")
-    else:
-        message = "adsorption fast enough: " + figures
+    message = _verdict(figures, optimistic, "the faster components take the fresh interface first; expect larger drops")
     return AdsorptionCheck(
         depth_m=float(a.depth[k]), diffusion_time_s=float(a.diffusion_time[k]),
         ward_tordai_time_s=float(a.ward_tordai_time[k]), residence_time_s=float(t_res.si),
